@@ -1,0 +1,23 @@
+// Builds the command line (and its start worker) into dist/. Run by `npm run build` and by
+// npm's "prepare" step on `npm install` / `npm ci`, so that `npx zoneplan` works from a checkout.
+import * as esbuild from 'esbuild';
+import { readFileSync, rmSync } from 'node:fs';
+
+// Packages stay external (loaded from node_modules), except data that is bundled in.
+const pkg = JSON.parse(readFileSync('package.json', 'utf8'));
+const bundled = new Set(['world-atlas']);
+const external = [...Object.keys(pkg.dependencies ?? {}), ...Object.keys(pkg.devDependencies ?? {})].filter((d) => !bundled.has(d));
+
+rmSync('dist/cli', { recursive: true, force: true });
+await esbuild.build({
+  entryPoints: { zoneplan: 'src/cli/zoneplan.ts', 'start-worker': 'src/run/start-worker.ts' },
+  outdir: 'dist/cli',
+  outExtension: { '.js': '.mjs' },
+  bundle: true,
+  format: 'esm',
+  platform: 'node',
+  target: 'node20',
+  external,
+  sourcemap: true,
+  logLevel: 'warning',
+});

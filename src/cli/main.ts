@@ -1,0 +1,178 @@
+import { Command, CommanderError, InvalidArgumentError, Option } from 'commander';
+import { checkStopsFile, planStopsFile } from '../api/plan-file.js';
+import type { StopFileOptions, PlanSettingsInput } from '../api/types.js';
+import { ImportError, formatProblem } from '../io/problems.js';
+import { WriteError } from '../io/atomic.js';
+import { SolveError } from '../solve/types.js';
+import { planText, problemLine, fixed, amount } from './format.js';
+
+/** Exit codes: 0 done; 2 the user must change something (input, options, destination); 1 internal fault. */
+export const EXIT_OK = 0;
+export const EXIT_FAULT = 1;
+export const EXIT_USAGE = 2;
+
+export interface CliIo {
+  readonly out: (s: string) => void;
+  readonly err: (s: string) => void;
+  readonly isTty: boolean;
+}
+
+const defaultIo: CliIo = {
+  out: (s) => process.stdout.write(s),
+  err: (s) => process.stderr.write(s),
+  isTty: Boolean(process.stderr.isTTY),
+};
+
+function wholeNumber(min: number, what: string) {
+  return (v: string): number => {
+    if (!/^\d+$/.test(v.trim())) throw new InvalidArgumentError(`${what} must be a whole number, got "${v}"`);
+    const n = Number(v);
+    if (n < min) throw new InvalidArgumentError(`${what} must be at least ${min}, got ${n}`);
+    return n;
+  };
+}
+
+function delimiterOption(v: string): ',' | ';' | '\t' {
+  const map: Record<string, ',' | ';' | '\t'> = { ',': ',', comma: ',', ';': ';', semicolon: ';', '\t': '\t', tab: '\t', '\\t': '\t' };
+  const d = map[v.toLowerCase()];
+  if (!d) throw new InvalidArgumentError(`delimiter must be comma, semicolon or tab, got "${v}"`);
+  return d;
+}
+
+function addReadOptions(cmd: Command): Command {
+  return cmd
+    .addOption(new Option('--format <format>', 'input format (default: by file extension)').choices(['csv', 'geojson']))
+    .option('--lat <name>', 'latitude column or property (default: lat, latitude, y, ...)')
+    .option('--lon <name>', 'longitude column or property (default: lon, lng, long, longitude, x, ...)')
+    .option('--id <name>', 'stop id column or property (default: id, stop_id, name, ...; else the row number)')
+    .option('--demand <name>', 'workload column or property (default: demand, weight, workload, ...; else 1 per stop)')
+    .option('--delimiter <d>', 'CSV delimiter: comma, semicolon or tab (default: detected from the header)', delimiterOption);
+}
+
+function readOptions(o: Record<string, unknown>): StopFileOptions {
+  const r: { -readonly [K in keyof StopFileOptions]: StopFileOptions[K] } = {};
+  if (o.format) r.format = o.format as 'csv' | 'geojson';
+  if (typeof o.lat === 'string') r.lat = o.lat;
+  if (typeof o.lon === 'string') r.lon = o.lon;
+  if (typeof o.id === 'string') r.id = o.id;
+  if (typeof o.demand === 'string') r.demand = o.demand;
+  if (o.delimiter) r.delimiter = o.delimiter as ',' | ';' | '\t';
+  return r;
+}
+
+/** Runs the command line; returns the exit code instead of exiting, so that it can be tested. */
+export async function main(argv: readonly string[], io: CliIo = defaultIo): Promise<number> {
+  const program = new Command();
+  let code = EXIT_OK;
+  program
+    .name('zoneplan')
+    .description('Cut a region of stops into K compact service zones with fair workloads (great-circle k-means).')
+    .exitOverride()
+    .configureOutput({ writeOut: io.out, writeErr: io.err })
+    .showHelpAfterError('(run with --help for the options)');
+
+  addReadOptions(
+    program
+      .command('check')
+      .description('validate a stops file (CSV or GeoJSON) and report what would be imported')
+      .argument('<input>', 'stops file: CSV with a header, or GeoJSON FeatureCollection of Points'),
+  )
+    .option('--json', 'print the report as JSON on stdout')
+    .action(async (input: string, o: Record<string, unknown>) => {
+      const report = await checkStopsFile(input, readOptions(o));
+      if (o.json) io.out(`${JSON.stringify(report, null, 2)}\n`);
+      else {
+        for (const w of report.warnings) io.err(`${problemLine(w)}\n`);
+        const [w, s, e, n] = report.bbox;
+        io.out(
+          `${report.file}: ${report.stops} stops, demand ${amount(report.totalDemand)}, ${report.format}` +
+            ` (id: ${report.fields.id ?? 'row number'}, lat: ${report.fields.lat}, lon: ${report.fields.lon}, demand: ${report.fields.demand ?? '1 per stop'})\n` +
+            `extent: longitude ${fixed(w, 4)} to ${fixed(e, 4)}, latitude ${fixed(s, 4)} to ${fixed(n, 4)}\n` +
+            `${report.warnings.length === 0 ? 'no problems found' : `${report.warnings.length} warning${report.warnings.length === 1 ? '' : 's'} (see above); the file can be imported`}\n`,
+        );
+      }
+    });
+
+  addReadOptions(
+    program
+      .command('plan')
+      .description('plan K zones for a stops file; print per-zone figures; optionally write the plan')
+      .argument('<input>', 'stops file: CSV with a header, or GeoJSON FeatureCollection of Points'),
+  )
+    .requiredOption('-k, --zones <K>', 'number of zones (vans, depots, technicians)', wholeNumber(1, 'zones'))
+    .option('--seed <n>', 'seed of the random starts: same input, settings and seed give the same plan (default 1)', wholeNumber(0, 'seed'))
+    .option('--restarts <n>', 'k-means++ starts; the best is kept (default 4)', wholeNumber(1, 'restarts'))
+    .option('--max-iterations <n>', 'iteration cap; a plan that reaches it is reported as not converged (default 500)', wholeNumber(1, 'max-iterations'))
+    .addOption(new Option('--centre <rule>', 'arc: centres minimise squared great-circle km (default); mean: normalised vector mean').choices(['arc', 'mean']))
+    .option('--sample <n>', 'compare the starts on a sample of this many stops when there are over twice as many (0: never; default max(100000, 250 x zones))', wholeNumber(0, 'sample'))
+    .option('--threads <n>', 'worker threads for the starts (default up to 2); the plan does not depend on it', wholeNumber(1, 'threads'))
+    .option('-o, --out <file>', 'write the plan as GeoJSON (RFC 7946): stops and zone centres')
+    .option('--assignments <file>', 'write stop assignments as CSV: stop_id, zone, km_to_centre, demand')
+    .option('--json', 'print the plan report as JSON on stdout')
+    .option('--quiet', 'no progress line on stderr')
+    .action(async (input: string, o: Record<string, unknown>) => {
+      const settings: { -readonly [K in keyof PlanSettingsInput]: PlanSettingsInput[K] } = { zones: o.zones as number };
+      if (o.seed !== undefined) settings.seed = o.seed as number;
+      if (o.restarts !== undefined) settings.restarts = o.restarts as number;
+      if (o.maxIterations !== undefined) settings.maxIterations = o.maxIterations as number;
+      if (o.centre !== undefined) settings.centre = o.centre as 'arc' | 'mean';
+      if (o.sample !== undefined) settings.sampleStops = o.sample as number;
+      if (o.threads !== undefined) settings.threads = o.threads as number;
+      const showProgress = io.isTty && !o.quiet && !o.json;
+      let lastDraw = 0;
+      const report = await planStopsFile(
+        input,
+        readOptions(o),
+        settings,
+        { ...(typeof o.out === 'string' ? { geojson: o.out } : {}), ...(typeof o.assignments === 'string' ? { assignments: o.assignments } : {}) },
+        {
+          onProgress: (p) => {
+            if (!showProgress) return;
+            const now = Date.now();
+            if (now - lastDraw < 100 && p.phase !== 'done') return;
+            lastDraw = now;
+            const width = 30;
+            const filled = Math.round(p.fraction * width);
+            io.err(`\r[${'#'.repeat(filled)}${'.'.repeat(width - filled)}] ${String(Math.round(p.fraction * 100)).padStart(3)}% ${p.phase}   `);
+          },
+        },
+      );
+      if (showProgress) io.err('\r\x1b[K');
+      for (const w of report.input.warnings) io.err(`${problemLine(w)}\n`);
+      if (!report.converged) io.err(`warning: the plan did not converge within the iteration cap; raise --max-iterations for a settled plan\n`);
+      io.out(o.json ? `${JSON.stringify(report, null, 2)}\n` : `${planText(report)}\n`);
+    });
+
+  try {
+    await program.parseAsync(argv as string[], { from: 'user' });
+  } catch (e) {
+    code = reportFailure(e, io);
+  }
+  return code;
+}
+
+function reportFailure(e: unknown, io: CliIo): number {
+  if (e instanceof CommanderError) {
+    if (e.code === 'commander.helpDisplayed' || e.code === 'commander.version' || e.code === 'commander.help') return EXIT_OK;
+    return EXIT_USAGE; // commander has printed the message
+  }
+  if (e instanceof ImportError) {
+    io.err(`${e.problems.map(formatProblem).join('\n')}\n`);
+    const more = e.errorCount - e.problems.length;
+    if (more > 0) io.err(`... and ${more} more error${more === 1 ? '' : 's'}\n`);
+    io.err(`${e.file}: ${e.errorCount} error${e.errorCount === 1 ? '' : 's'}; nothing was imported or written\n`);
+    return EXIT_USAGE;
+  }
+  if (e instanceof SolveError) {
+    io.err(`error: ${e.message}\n`);
+    return e.code === 'cancelled' ? EXIT_FAULT : EXIT_USAGE;
+  }
+  if (e instanceof WriteError) {
+    io.err(`error: ${e.message}\n`);
+    return EXIT_USAGE;
+  }
+  io.err(`internal error: ${e instanceof Error ? e.message : String(e)}\n`);
+  if (process.env.ZONEPLAN_DEBUG && e instanceof Error && e.stack) io.err(`${e.stack}\n`);
+  else io.err('this is a fault in Zoneplan, not in your input; run with ZONEPLAN_DEBUG=1 for details\n');
+  return EXIT_FAULT;
+}

@@ -1,0 +1,67 @@
+import { closeSync, fsyncSync, openSync, renameSync, unlinkSync, writeSync } from 'node:fs';
+import { randomBytes } from 'node:crypto';
+import path from 'node:path';
+
+/** A write that could not be done; the message says why in words a planner can act on. */
+export class WriteError extends Error {
+  constructor(
+    message: string,
+    readonly target: string,
+    readonly code: string,
+  ) {
+    super(message);
+    this.name = 'WriteError';
+  }
+}
+
+export function explainWriteError(target: string, e: unknown): WriteError {
+  const code = (e as NodeJS.ErrnoException)?.code ?? 'EIO';
+  const reason: Record<string, string> = {
+    ENOSPC: 'the disk is full',
+    EDQUOT: 'the disk quota is used up',
+    EROFS: 'the destination is on a read-only file system',
+    EACCES: 'permission denied',
+    EPERM: 'permission denied',
+    ENOENT: 'the folder does not exist',
+    ENOTDIR: 'a part of the path is not a folder',
+    EISDIR: 'the destination is a folder',
+  };
+  const why = reason[code] ?? (e instanceof Error ? e.message : String(e));
+  return new WriteError(`cannot write ${target}: ${why}; nothing was written there`, target, code);
+}
+
+/**
+ * Writes a file all or nothing: the chunks go to a temporary file beside the target, which is
+ * flushed to disk and then renamed over the target. A failure (disk full, read-only place, a
+ * throwing chunk producer) removes the temporary file and leaves any old target as it was.
+ */
+export function writeFileAtomic(target: string, chunks: Iterable<string> | string): void {
+  const dir = path.dirname(path.resolve(target));
+  const temp = path.join(dir, `.${path.basename(target)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
+  let fd: number | null = null;
+  try {
+    fd = openSync(temp, 'wx');
+    if (typeof chunks === 'string') writeSync(fd, chunks);
+    else for (const chunk of chunks) if (chunk.length > 0) writeSync(fd, chunk);
+    fsyncSync(fd);
+    closeSync(fd);
+    fd = null;
+    renameSync(temp, target);
+  } catch (e) {
+    if (fd !== null) {
+      try {
+        closeSync(fd);
+      } catch {
+        /* already failing; the original error is the one to report */
+      }
+    }
+    try {
+      unlinkSync(temp);
+    } catch {
+      /* the temporary file may never have been created */
+    }
+    if (e instanceof WriteError) throw e;
+    if ((e as NodeJS.ErrnoException)?.code) throw explainWriteError(target, e);
+    throw e;
+  }
+}

@@ -1,0 +1,49 @@
+/** Text of a file and the encoding it was read as. */
+export interface DecodedText {
+  readonly text: string;
+  readonly encoding: 'utf-8' | 'utf-16le' | 'utf-16be' | 'windows-1252';
+  /** Set when the bytes were not valid UTF-8 and were read as Windows-1252 instead. */
+  readonly fallbackAt?: { line: number; byte: number };
+}
+
+/**
+ * Decodes file bytes: a UTF-8 or UTF-16 byte order mark decides; otherwise UTF-8 when the bytes
+ * are valid UTF-8, else Windows-1252 (the usual spreadsheet export on Western European systems,
+ * a superset of printable Latin-1), which never fails. The BOM is removed.
+ */
+export function decodeText(bytes: Uint8Array): DecodedText {
+  if (bytes[0] === 0xef && bytes[1] === 0xbb && bytes[2] === 0xbf) {
+    return { text: new TextDecoder('utf-8').decode(bytes.subarray(3)), encoding: 'utf-8' };
+  }
+  if (bytes[0] === 0xff && bytes[1] === 0xfe) return { text: new TextDecoder('utf-16le').decode(bytes.subarray(2)), encoding: 'utf-16le' };
+  if (bytes[0] === 0xfe && bytes[1] === 0xff) {
+    const body = bytes.subarray(2);
+    const swapped = new Uint8Array(body.length - (body.length % 2));
+    for (let i = 0; i + 1 < body.length; i += 2) {
+      swapped[i] = body[i + 1]!;
+      swapped[i + 1] = body[i]!;
+    }
+    return { text: new TextDecoder('utf-16le').decode(swapped), encoding: 'utf-16be' };
+  }
+  try {
+    return { text: new TextDecoder('utf-8', { fatal: true }).decode(bytes), encoding: 'utf-8' };
+  } catch {
+    const byte = firstInvalidUtf8(bytes);
+    let line = 1;
+    for (let i = 0; i < byte; i++) if (bytes[i] === 10) line++;
+    return { text: new TextDecoder('windows-1252').decode(bytes), encoding: 'windows-1252', fallbackAt: { line, byte } };
+  }
+}
+
+/** Offset of the first byte that breaks UTF-8 (an approximation good enough for a message). */
+function firstInvalidUtf8(b: Uint8Array): number {
+  let i = 0;
+  while (i < b.length) {
+    const c = b[i]!;
+    const len = c < 0x80 ? 1 : c >= 0xc2 && c < 0xe0 ? 2 : c >= 0xe0 && c < 0xf0 ? 3 : c >= 0xf0 && c < 0xf5 ? 4 : 0;
+    if (len === 0) return i;
+    for (let j = 1; j < len; j++) if (((b[i + j] ?? 0) & 0xc0) !== 0x80) return i;
+    i += len;
+  }
+  return b.length;
+}

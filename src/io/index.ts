@@ -1,0 +1,10 @@
+export { readStopsFile, formatOf, MAX_WHOLE_FILE_BYTES, type ReadStopsOptions } from './read.js';
+export { parseStopsCsv, detectDelimiter, type CsvOptions, type Delimiter } from './csv.js';
+export { parseStopsGeoJson, type GeoJsonOptions } from './geojson-stops.js';
+export { decodeText, type DecodedText } from './decode.js';
+export { ImportError, ProblemLog, formatProblem, fileError, type Problem } from './problems.js';
+export { type StopSet, StopCollector, firstOccurrence } from './stopset.js';
+export { writeFileAtomic, WriteError, explainWriteError } from './atomic.js';
+export { planGeoJsonChunks, DISTANCE_NOTE, type PlanSummary } from './plan-geojson.js';
+export { assignmentsCsvChunks, ASSIGNMENT_COLUMNS } from './assignments-csv.js';
+export { FIELD_NAMES, type FieldChoice } from './fields.js';
