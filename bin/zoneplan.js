@@ -3,7 +3,7 @@
 // or the TypeScript source through tsx when no build is present.
 import { existsSync } from 'node:fs';
 
-const built = new URL('../dist/cli/zoneplan.mjs', import.meta.url);
+const built = new URL('../dist/node/zoneplan.mjs', import.meta.url);
 if (existsSync(built) && !process.env.ZONEPLAN_FROM_SOURCE) {
   await import(built.href);
 } else {

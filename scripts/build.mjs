@@ -8,10 +8,10 @@ const pkg = JSON.parse(readFileSync('package.json', 'utf8'));
 const bundled = new Set(['world-atlas']);
 const external = [...Object.keys(pkg.dependencies ?? {}), ...Object.keys(pkg.devDependencies ?? {})].filter((d) => !bundled.has(d));
 
-rmSync('dist/cli', { recursive: true, force: true });
+rmSync('dist/node', { recursive: true, force: true });
 await esbuild.build({
-  entryPoints: { zoneplan: 'src/cli/zoneplan.ts', 'start-worker': 'src/run/start-worker.ts' },
-  outdir: 'dist/cli',
+  entryPoints: { zoneplan: 'src/cli/zoneplan.ts', 'start-worker': 'src/run/start-worker.ts', lib: 'src/lib.ts' },
+  outdir: 'dist/node',
   outExtension: { '.js': '.mjs' },
   bundle: true,
   format: 'esm',
