@@ -57,22 +57,22 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
 
   const onHeader = (names: string[]): void => {
     header = names.map((s) => s.trim());
-    const need: string[] = [];
+    const need: { message: string; field?: string }[] = [];
     const lat = pickField(header, 'lat', options.lat);
     const lon = pickField(header, 'lon', options.lon);
     const id = pickField(header, 'id', options.id);
     const demand = pickField(header, 'demand', options.demand);
     const columns = header.length > 0 ? header.map((h) => `"${h}"`).join(', ') : '(none)';
     for (const [role, got] of [['latitude', lat], ['longitude', lon], ['id', id], ['demand', demand]] as const) {
-      if (typeof got === 'object') need.push(`the ${role} column "${got.missing}" was asked for but the header has only ${columns}`);
+      if (typeof got === 'object') need.push({ field: got.missing, message: `the ${role} column "${got.missing}" was asked for but the header has only ${columns}` });
     }
-    if (lat === -1) need.push(`no latitude column: name one ${FIELD_NAMES.lat.slice(0, 3).join(', ')} or choose it with --lat; the header has ${columns}`);
-    if (lon === -1) need.push(`no longitude column: name one ${FIELD_NAMES.lon.slice(0, 4).join(', ')} or choose it with --lon; the header has ${columns}`);
+    if (lat === -1) need.push({ message: `no latitude column: name one ${FIELD_NAMES.lat.slice(0, 3).join(', ')} or choose it with --lat; the header has ${columns}` });
+    if (lon === -1) need.push({ message: `no longitude column: name one ${FIELD_NAMES.lon.slice(0, 4).join(', ')} or choose it with --lon; the header has ${columns}` });
     if (need.length > 0) {
       const hint = header.length <= 1 ? ` (only one column was found with the ${DELIMITER_NAME[delimiter]} delimiter; Zoneplan reads comma-, semicolon- or tab-separated files)` : '';
       headerProblem = new ImportError(
         file,
-        need.map((message) => ({ severity: 'error' as const, file, code: 'header', row: 1, message: message + hint })),
+        need.map((n) => ({ severity: 'error' as const, file, code: 'header', row: 1, ...(n.field !== undefined ? { field: n.field } : {}), message: n.message + hint })),
       );
       return;
     }

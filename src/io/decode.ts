@@ -31,8 +31,21 @@ export function decodeText(bytes: Uint8Array): DecodedText {
     const byte = firstInvalidUtf8(bytes);
     let line = 1;
     for (let i = 0; i < byte; i++) if (bytes[i] === 10) line++;
-    return { text: new TextDecoder('windows-1252').decode(bytes), encoding: 'windows-1252', fallbackAt: { line, byte } };
+    return { text: decodeWindows1252(bytes), encoding: 'windows-1252', fallbackAt: { line, byte } };
   }
+}
+
+/**
+ * WHATWG Encoding, index-windows-1252, bytes 0x80-0x9f (0x81 0x8d 0x8f 0x90 0x9d stay the C1
+ * control of the same number). Node 20.18.3+ and 22.13+ decode 'windows-1252' as ISO-8859-1,
+ * turning these bytes into invisible controls (nodejs/node#56542, #60888), so they are mapped here.
+ */
+const WINDOWS_1252_80_9F =
+  '\u20ac\u0081\u201a\u0192\u201e\u2026\u2020\u2021\u02c6\u2030\u0160\u2039\u0152\u008d\u017d\u008f' +
+  '\u0090\u2018\u2019\u201c\u201d\u2022\u2013\u2014\u02dc\u2122\u0161\u203a\u0153\u009d\u017e\u0178';
+
+function decodeWindows1252(bytes: Uint8Array): string {
+  return new TextDecoder('windows-1252').decode(bytes).replace(/[\u0080-\u009f]/g, (c) => WINDOWS_1252_80_9F[c.charCodeAt(0) - 0x80]!);
 }
 
 /** Offset of the first byte that breaks UTF-8 (an approximation good enough for a message). */

@@ -7,17 +7,18 @@ export function round(x: number, places: number): number {
 const SCALE = [1, 10, 100, 1000, 10000, 100000, 1000000];
 
 /**
- * Text of x rounded to `places` (<= 6) decimals, without trailing zeros: the same digits as the
- * shortest form of round(x, places), built from integers (several times faster for big exports).
- * Magnitudes beyond 1e9 fall back to the general conversion.
+ * Text of x rounded to `places` (<= 6) decimals, without trailing zeros: the same text as
+ * String(Number(x.toFixed(places))), built from integers (several times faster for big exports).
+ * toFixed (ECMA-262 Number.prototype.toFixed) rounds the exact value of x, halves away from zero;
+ * the scaled double |x| * 10^places carries a rounding error of at most half an ulp, so when it
+ * lies that close to a half, and for magnitudes of 1e9 and beyond, toFixed itself decides.
  */
 export function decimals(x: number, places: number): string {
-  if (!(Math.abs(x) < 1e9)) return String(round(x, places));
   const f = SCALE[places]!;
-  let r = Math.round(x * f);
+  const scaled = Math.abs(x) * f;
+  if (!(Math.abs(x) < 1e9) || Math.abs(scaled - Math.floor(scaled) - 0.5) <= scaled * 2 ** -52) return String(Number(x.toFixed(places)));
+  const r = Math.round(scaled);
   if (r === 0) return '0';
-  const negative = r < 0;
-  if (negative) r = -r;
   const whole = Math.floor(r / f);
   let frac = r - whole * f;
   let text: string;
@@ -30,7 +31,7 @@ export function decimals(x: number, places: number): string {
     }
     text = `${whole}.${String(frac).padStart(digits, '0')}`;
   }
-  return negative ? `-${text}` : text;
+  return x < 0 ? `-${text}` : text;
 }
 
 /** JSON text of a coordinate in degrees, 6 decimals (about 0.1 m) as RFC 7946 section 11.2 suggests. */

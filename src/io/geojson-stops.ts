@@ -162,19 +162,22 @@ export function parseStopsGeoJson(text: string, file: string, options: GeoJsonOp
     if (demandKey) {
       const v = props[demandKey];
       const field = `properties.${demandKey}`;
+      // Checked on its own: a bad position in the same feature must not hide a bad demand.
+      let read = true;
       if (typeof v === 'string' && /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(v.trim())) demand = Number(v);
       else if (typeof v === 'number') demand = v;
       else {
         log.error({ code: 'bad-demand', feature: index, field, value: showValue(v ?? null), message: v === undefined || v === null ? 'demand is missing: write 0 for a stop with no workload' : 'demand is not a number' });
-        bad = true;
+        read = false;
       }
-      if (!bad && !Number.isFinite(demand)) {
+      if (read && !Number.isFinite(demand)) {
         log.error({ code: 'bad-demand', feature: index, field, value: showValue(v), message: 'demand must be a finite number' });
-        bad = true;
-      } else if (!bad && demand < 0) {
+        read = false;
+      } else if (read && demand < 0) {
         log.error({ code: 'negative-demand', feature: index, field, value: showValue(v), message: 'demand must not be negative' });
-        bad = true;
+        read = false;
       }
+      if (!read) bad = true;
     }
     if (!bad) collector.add(id, lon as number, lat as number, demand, index);
   }

@@ -20,7 +20,8 @@ export interface Problem {
 
 /** Shortens a value for a message: long cells are cut, control characters shown escaped. */
 export function showValue(v: unknown): string {
-  let s = typeof v === 'string' ? v : JSON.stringify(v) ?? String(v);
+  // JSON.stringify writes Infinity and NaN (e.g. a GeoJSON 1e999 read by JSON.parse) as "null".
+  let s = typeof v === 'string' ? v : typeof v === 'number' ? String(v) : JSON.stringify(v) ?? String(v);
   if (s.length > 60) s = `${s.slice(0, 57)}...`;
   return s.replace(/[\u0000-\u001f]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
 }

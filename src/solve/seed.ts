@@ -36,6 +36,13 @@ interface Group {
  * (triangle inequality), so other groups are not visited, and the draw picks a group by its total
  * potential and then a stop inside it.
  *
+ * With `localTrials` > 1 (default 2 + floor(ln k), as scikit-learn's greedy k-means++ does, after
+ * the suggestion in Arthur and Vassilvitskii's paper), each next centre is the best of that many
+ * draws: the one that lowers the total potential most. 1 gives plain k-means++.
+ *
+ * With `preset` > 0 the first `preset` centres are already in `centres` (fixed depots) and the
+ * draw continues from them.
+ *
  * Writes centres (interleaved unit vectors, 3k) and fills `scratch.nearest` with each stop's
  * nearest centre and `scratch.nearestChord2` with the squared chord to it.
  */
@@ -46,38 +53,81 @@ export function seedCentres(
   rng: Random,
   centres: Float64Array,
   scratch: SeedScratch,
+  localTrials?: number,
+  preset = 0,
 ): void {
   const n = demand.length;
   const { nearestChord2, potential, nearest } = scratch;
-
-  // First centre: drawn by demand alone.
-  let totalDemand = 0;
-  for (let i = 0; i < n; i++) totalDemand += demand[i]!;
-  let first = drawIn(demand, null, n, totalDemand, rng);
-  if (first < 0) first = 0;
-  setCentre(centres, 0, units, first);
-  const all = new Int32Array(n);
-  for (let i = 0; i < n; i++) all[i] = i;
   const groups: Group[] = [];
-  {
-    const g: Group = { members: all, potential: 0, radius: 0 };
-    const px = centres[0]!;
-    const py = centres[1]!;
-    const pz = centres[2]!;
+  if (preset > 0) {
+    // Centres 0..preset-1 are given (fixed depots): every stop starts in its nearest one's group.
+    const lists: number[][] = Array.from({ length: preset }, () => []);
     for (let i = 0; i < n; i++) {
-      const d2 = chord2At(units, i, px, py, pz);
-      nearestChord2[i] = d2;
-      nearest[i] = 0;
-      const a = angleFromChord(Math.sqrt(d2));
+      let best = 0;
+      let bestD2 = Infinity;
+      for (let j = 0; j < preset; j++) {
+        const d2 = chord2At(units, i, centres[3 * j]!, centres[3 * j + 1]!, centres[3 * j + 2]!);
+        if (d2 < bestD2) {
+          bestD2 = d2;
+          best = j;
+        }
+      }
+      nearestChord2[i] = bestD2;
+      nearest[i] = best;
+      const a = angleFromChord(Math.sqrt(bestD2));
       potential[i] = demand[i]! * a * a;
+      lists[best]!.push(i);
     }
-    refreshGroup(g, potential, nearestChord2);
-    groups.push(g);
+    for (const list of lists) {
+      const g: Group = { members: Int32Array.from(list), potential: 0, radius: 0 };
+      refreshGroup(g, potential, nearestChord2);
+      groups.push(g);
+    }
+  } else {
+    // First centre: drawn by demand alone.
+    let totalDemand = 0;
+    for (let i = 0; i < n; i++) totalDemand += demand[i]!;
+    let first = drawIn(demand, null, n, totalDemand, rng);
+    if (first < 0) first = 0;
+    setCentre(centres, 0, units, first);
+    const all = new Int32Array(n);
+    for (let i = 0; i < n; i++) all[i] = i;
+    {
+      const g: Group = { members: all, potential: 0, radius: 0 };
+      const px = centres[0]!;
+      const py = centres[1]!;
+      const pz = centres[2]!;
+      for (let i = 0; i < n; i++) {
+        const d2 = chord2At(units, i, px, py, pz);
+        nearestChord2[i] = d2;
+        nearest[i] = 0;
+        const a = angleFromChord(Math.sqrt(d2));
+        potential[i] = demand[i]! * a * a;
+      }
+      refreshGroup(g, potential, nearestChord2);
+      groups.push(g);
+    }
   }
 
   const moved = new Int32Array(n);
-  for (let j = 1; j < k; j++) {
-    const pick = drawPoint(groups, potential, nearestChord2, rng);
+  const trials = localTrials ?? 2 + Math.floor(Math.log(k));
+  for (let j = Math.max(1, preset); j < k; j++) {
+    // Greedy k-means++: draw `trials` candidates, keep the one that lowers the potential most.
+    let pick = -1;
+    let bestGain = -1;
+    for (let t = 0; t < trials; t++) {
+      const candidate = drawPoint(groups, potential, nearestChord2, rng);
+      if (candidate < 0) break;
+      if (trials === 1) {
+        pick = candidate;
+        break;
+      }
+      const gain = potentialGain(groups, centres, units, demand, potential, nearestChord2, candidate);
+      if (gain > bestGain) {
+        bestGain = gain;
+        pick = candidate;
+      }
+    }
     if (pick < 0) throw new Error('seedCentres: fewer distinct locations than zones (checked by the caller)');
     setCentre(centres, j, units, pick);
     const px = centres[3 * j]!;
@@ -114,6 +164,36 @@ export function seedCentres(
     refreshGroup(g, potential, nearestChord2);
     groups.push(g);
   }
+}
+
+/** How much the total potential would fall if the stop `candidate` became a centre. */
+function potentialGain(
+  groups: readonly Group[],
+  centres: Float64Array,
+  units: Float64Array,
+  demand: Float64Array,
+  potential: Float64Array,
+  nearestChord2: Float64Array,
+  candidate: number,
+): number {
+  const px = units[3 * candidate]!;
+  const py = units[3 * candidate + 1]!;
+  const pz = units[3 * candidate + 2]!;
+  let gain = 0;
+  for (let g = 0; g < groups.length; g++) {
+    const group = groups[g]!;
+    if (Math.sqrt(chord2(centres, g, px, py, pz)) >= 2 * group.radius) continue;
+    const members = group.members;
+    for (let t = 0; t < members.length; t++) {
+      const i = members[t]!;
+      const d2 = chord2At(units, i, px, py, pz);
+      if (d2 < nearestChord2[i]!) {
+        const a = angleFromChord(Math.sqrt(d2));
+        gain += potential[i]! - demand[i]! * a * a;
+      }
+    }
+  }
+  return gain;
 }
 
 function setCentre(centres: Float64Array, j: number, units: Float64Array, i: number): void {

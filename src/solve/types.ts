@@ -39,8 +39,11 @@ export interface SolveSettings {
 export interface IterationRecord {
   readonly restart: number;
   readonly iteration: number;
-  /** 'mean': Lloyd steps with vector-mean centres; 'arc': Karcher refinement of the chosen start. */
-  readonly phase: 'mean' | 'arc';
+  /**
+   * 'mean': Lloyd steps with vector-mean centres; 'arc': Karcher refinement of the chosen start;
+   * 'limits': the workload-limited loop (objectiveKm2 is then its LP relaxation's objective).
+   */
+  readonly phase: 'mean' | 'arc' | 'limits';
   /** Stops this iteration ran on: all of them, or the sample the starts are compared on. */
   readonly stops: number;
   /** Stops that changed zone in this iteration's assignment step. */
@@ -53,7 +56,9 @@ export interface IterationRecord {
   /**
    * The quantity the phase minimises exactly, never rising from one iteration to the next:
    * in phase 'mean' the sum of demand x (chord km)^2 of this iteration's assignment against the
-   * centres it was made with (from the zone sums, so good to about 1e-9 relative); in phase 'arc'
+   * centres it was made with (from the zone sums as 2 R^2 (W - c . S), which cancels: its rounding
+   * is a few times 1e-16 x total demand x R^2, about 1e-8 km^2 per unit of demand, so about 1e-9
+   * relative only for zones tens of km across, and worse for compact ones); in phase 'arc'
    * objectiveKm2.
    */
   readonly phaseObjectiveKm2: number;
@@ -103,7 +108,7 @@ export interface SolveResult {
 export class SolveError extends Error {
   constructor(
     message: string,
-    readonly code: 'zones' | 'no-stops' | 'no-demand' | 'too-few-locations' | 'settings' | 'cancelled',
+    readonly code: 'zones' | 'no-stops' | 'no-demand' | 'too-few-locations' | 'settings' | 'infeasible' | 'cancelled',
   ) {
     super(message);
     this.name = 'SolveError';
