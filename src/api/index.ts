@@ -1,3 +1,4 @@
 export * from './types.js';
-export { checkStopsFile, planStopsFile, solveStops, writePlanFiles, zoneRows, type SolvedPlan, type RunHooks } from './plan-file.js';
+export { checkStopsFile, planStopsFile, solveStops, writePlanFiles, zoneRows, planReport, limitsOutcome, type SolvedPlan, type RunHooks } from './plan-file.js';
+export { sweepStopsFile, workloadSpread } from './sweep.js';
 export { checkReport, lonLatBox } from './report.js';

@@ -3,12 +3,16 @@ import type { StopSet } from '../io/stopset.js';
 import { writeFileAtomic } from '../io/atomic.js';
 import { planGeoJsonChunks, DISTANCE_NOTE } from '../io/plan-geojson.js';
 import { assignmentsCsvChunks } from '../io/assignments-csv.js';
+import { readCapacityFile, readDepotsFile, readLocksFile, type DepotSet, type ZoneNames } from '../io/zone-files.js';
 import { solveZonesParallel } from '../run/parallel-solve.js';
+import { drive } from '../solve/drive.js';
+import { solveLimitedSteps, type LimitedResult } from '../solve/limited.js';
+import { hasLimits, zonesForCapacity, type LimitSettings } from '../solve/limits.js';
 import { planFromSolve, type Plan } from '../solve/plan.js';
-import type { SolveResult, SolveSettings } from '../solve/types.js';
+import { SolveError, type SolveProgress, type SolveResult, type SolveSettings } from '../solve/types.js';
 import { planFigures, type PlanFigures } from '../zones/stats.js';
 import { checkReport } from './report.js';
-import type { CheckReport, PlanProgressEvent, PlanReport, PlanSettingsInput, StopFileOptions, ZoneRow } from './types.js';
+import type { CheckReport, LimitsOutcome, PlanProgressEvent, PlanReport, PlanSettingsInput, StopFileOptions, ZoneRow } from './types.js';
 
 export interface RunHooks {
   readonly onProgress?: (e: PlanProgressEvent) => void;
@@ -28,8 +32,8 @@ export interface SolvedPlan {
   readonly figures: PlanFigures;
 }
 
-function solveSettings(s: PlanSettingsInput): SolveSettings {
-  const out: { -readonly [K in keyof SolveSettings]: SolveSettings[K] } = { zones: s.zones };
+function solveSettings(s: PlanSettingsInput, zones: number): SolveSettings {
+  const out: { -readonly [K in keyof SolveSettings]: SolveSettings[K] } = { zones };
   if (s.seed !== undefined) out.seed = s.seed;
   if (s.restarts !== undefined) out.restarts = s.restarts;
   if (s.maxIterations !== undefined) out.maxIterations = s.maxIterations;
@@ -38,36 +42,131 @@ function solveSettings(s: PlanSettingsInput): SolveSettings {
   return out;
 }
 
+/** Zone limits, depots and locks, read and put together for K zones. */
+interface ZoneSetup {
+  readonly limits: LimitSettings | undefined;
+  readonly depots: DepotSet | null;
+  readonly locked: Int32Array | null;
+  readonly names: (string | null)[];
+}
+
+function zoneSetup(stops: StopSet, settings: PlanSettingsInput, k: number, depots: DepotSet | null): ZoneSetup {
+  const f = depots?.ids.length ?? 0;
+  if (f > k) throw new SolveError(`${f} depots in ${depots!.source}, but only ${k} zones: every depot is a zone, so ask for at least ${f}`, 'zones');
+  const names: ZoneNames = { count: k, depotIds: depots?.ids ?? [] };
+  // Capacity per zone: the uniform one, then the depot file's, then the capacity file's.
+  const capacity: number[] = new Array(k).fill(settings.capacity ?? Infinity);
+  depots?.capacity.forEach((c, j) => {
+    if (c !== null) capacity[j] = c;
+  });
+  if (settings.capacityFile) {
+    readCapacityFile(settings.capacityFile, names).forEach((c, j) => {
+      if (c !== null) capacity[j] = c;
+    });
+  }
+  const limits: { -readonly [K in keyof LimitSettings]: LimitSettings[K] } = {};
+  if (capacity.some((c) => Number.isFinite(c))) limits.capacity = capacity;
+  if (settings.balance !== undefined) limits.balance = settings.balance;
+  if (settings.minStops !== undefined) limits.minStops = settings.minStops;
+  if (settings.maxStops !== undefined) limits.maxStops = settings.maxStops;
+  const locked = settings.locksFile ? readLocksFile(settings.locksFile, stops.ids, names) : null;
+  const zoneNames: (string | null)[] = Array.from({ length: k }, (_, j) => depots?.ids[j] ?? null);
+  return { limits: hasLimits(limits) ? limits : undefined, depots, locked, names: zoneNames };
+}
+
 /** Solves a plan for stops already read. Throws SolveError for impossible settings. */
 export async function solveStops(stops: StopSet, settings: PlanSettingsInput, hooks: RunHooks = {}): Promise<SolvedPlan> {
-  const s = solveSettings(settings);
-  const result = await solveZonesParallel({ units: stops.units, demand: stops.demand }, s, {
-    ...(hooks.signal ? { signal: hooks.signal } : {}),
-    ...(settings.threads !== undefined ? { threads: settings.threads } : {}),
-    onProgress: (p) =>
-      hooks.onProgress?.({
-        phase: p.phase,
-        fraction: p.fraction,
-        restart: p.restart,
-        iteration: p.iteration,
-        moved: p.moved,
-      }),
-  });
-  const plan = planFromSolve(result, s);
+  const depots = settings.depotsFile ? readDepotsFile(settings.depotsFile) : null;
+  let k: number;
+  if (settings.zones === 'auto') {
+    if (!(settings.capacity !== undefined && settings.capacity > 0)) {
+      throw new SolveError("zones 'auto' needs a capacity (--capacity Q): the fewest zones of that capacity that carry the total demand", 'settings');
+    }
+    k = Math.max(zonesForCapacity(stops.demand, settings.capacity), depots?.ids.length ?? 0);
+  } else k = settings.zones;
+  // With 'auto', whole stops may not pack into the LP's number of zones: try a few more.
+  for (let extra = 0; ; extra++) {
+    const solved = await solveFor(stops, settings, k + extra, depots, hooks);
+    const limits = (solved.result as LimitedResult).limits;
+    if (settings.zones !== 'auto' || !limits || limits.feasible || extra >= 3) return solved;
+  }
+}
+
+async function solveFor(stops: StopSet, settings: PlanSettingsInput, k: number, depots: DepotSet | null, hooks: RunHooks): Promise<SolvedPlan> {
+  const s = solveSettings(settings, k);
+  const setup = zoneSetup(stops, settings, k, depots);
+  const input = { units: stops.units, demand: stops.demand };
+  const progress = (p: SolveProgress): void =>
+    hooks.onProgress?.({ phase: p.phase, fraction: p.fraction, restart: p.restart, iteration: p.iteration, moved: p.moved });
+  const driveHooks = { onProgress: progress, ...(hooks.signal ? { signal: hooks.signal } : {}) };
+  const special = !!setup.limits || !!setup.depots || !!setup.locked;
+  let result: SolveResult | LimitedResult;
+  const plainFirst = !setup.depots && !setup.locked;
+  const start = !special || plainFirst
+    ? await solveZonesParallel(input, s, {
+        ...(hooks.signal ? { signal: hooks.signal } : {}),
+        ...(settings.threads !== undefined ? { threads: settings.threads } : {}),
+        onProgress: (p) => progress(special ? { ...p, fraction: p.fraction * 0.4, phase: p.phase === 'done' ? 'mean' : p.phase } : p),
+      })
+    : null;
+  if (!special) result = start!;
+  else {
+    result = await drive(
+      solveLimitedSteps(
+        input,
+        {
+          ...s,
+          ...(setup.limits ? { limits: setup.limits } : {}),
+          ...(setup.depots ? { fixedCentres: setup.depots.units } : {}),
+          ...(setup.locked ? { locked: setup.locked } : {}),
+          stopIds: stops.ids,
+        },
+        start ?? undefined,
+      ),
+      driveHooks,
+    );
+  }
+  const plan = planFromSolve(result, s, { zoneNames: setup.names, locked: setup.locked });
   const figures = planFigures(stops.units, stops.demand, plan.centres, plan.assignment);
   return { stops, plan, result, figures };
 }
 
 export function zoneRows(plan: Plan, figures: PlanFigures): ZoneRow[] {
-  return figures.zones.map((z) => ({
-    zone: plan.zoneIds[z.zone]!,
-    centre: [z.centreLon, z.centreLat],
-    stops: z.stops,
-    demand: z.demand,
-    meanKm: z.meanKm,
-    maxKm: z.maxKm,
-    objectiveKm2: z.objectiveKm2,
-  }));
+  const bounds = plan.limits?.bounds;
+  const breaking = new Set(plan.limits?.violations.map((v) => v.zone) ?? []);
+  return figures.zones.map((z) => {
+    const max = bounds && Number.isFinite(bounds.maxDemand[z.zone]!) ? bounds.maxDemand[z.zone]! : null;
+    const min = bounds && bounds.minDemand[z.zone]! > 0 ? bounds.minDemand[z.zone]! : null;
+    return {
+      zone: plan.zoneIds[z.zone]!,
+      name: plan.zoneNames[z.zone] ?? null,
+      fixed: z.zone < plan.fixedZones,
+      centre: [z.centreLon, z.centreLat],
+      stops: z.stops,
+      demand: z.demand,
+      maxDemand: max,
+      minDemand: min,
+      utilisation: max !== null && max > 0 ? z.demand / max : null,
+      breaksLimits: breaking.has(z.zone),
+      meanKm: z.meanKm,
+      maxKm: z.maxKm,
+      objectiveKm2: z.objectiveKm2,
+    };
+  });
+}
+
+export function limitsOutcome(plan: Plan): LimitsOutcome | null {
+  const l = plan.limits;
+  if (!l) return null;
+  return {
+    lowerBoundKm2: l.lowerBoundKm2,
+    gap: l.gap,
+    feasible: l.feasible,
+    breaches: l.violations.map((v) => ({ zone: plan.zoneIds[v.zone]!, kind: v.kind, load: v.load, bound: v.bound, by: v.by })),
+    split: l.split,
+    repaired: l.repaired,
+    notes: l.notes.map((n) => n.message),
+  };
 }
 
 /** Writes the plan GeoJSON and/or assignments CSV, each all or nothing. */
@@ -93,11 +192,20 @@ export async function planStopsFile(
   hooks.onProgress?.({ phase: 'write', fraction: 1 });
   writePlanFiles(solved, out);
   const t3 = performance.now();
-  const { result, plan, figures } = solved;
+  return planReport(solved, { readMs: t1 - t0, solveMs: t2 - t1, writeMs: t3 - t2 }, out);
+}
+
+export function planReport(solved: SolvedPlan, timings: PlanReport['timings'], out: { geojson?: string; assignments?: string } = {}): PlanReport {
+  const { result, plan, figures, stops } = solved;
+  let locked = 0;
+  if (plan.locked) for (let i = 0; i < plan.locked.length; i++) if (plan.locked[i]! >= 0) locked++;
   return {
     input: checkReport(stops),
+    limits: limitsOutcome(plan),
+    fixedZones: plan.fixedZones,
+    lockedStops: locked,
     zones: zoneRows(plan, figures),
-    objectiveKm2: result.objectiveKm2,
+    objectiveKm2: figures.objectiveKm2,
     iterations: result.iterations,
     converged: result.converged,
     seed: result.seed,
@@ -108,7 +216,7 @@ export async function planStopsFile(
     reseeded: result.reseeded,
     distanceShare: result.naiveDistanceEvaluations > 0 ? result.distanceEvaluations / result.naiveDistanceEvaluations : 0,
     files: { ...(out.geojson ? { geojson: out.geojson } : {}), ...(out.assignments ? { assignments: out.assignments } : {}) },
-    timings: { readMs: t1 - t0, solveMs: t2 - t1, writeMs: t3 - t2 },
+    timings,
     distanceNote: DISTANCE_NOTE,
   };
 }

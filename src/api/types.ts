@@ -24,7 +24,8 @@ export interface StopFileOptions {
   readonly id?: string;
   readonly lat?: string;
   readonly lon?: string;
-  readonly demand?: string;
+  /** The demand column; null: none (every stop counts 1). */
+  readonly demand?: string | null;
 }
 
 export interface CheckReport {
@@ -39,7 +40,8 @@ export interface CheckReport {
 }
 
 export interface PlanSettingsInput {
-  readonly zones: number;
+  /** Number of zones, or 'auto': the fewest zones whose capacity carries the total demand. */
+  readonly zones: number | 'auto';
   readonly seed?: number;
   readonly restarts?: number;
   readonly maxIterations?: number;
@@ -47,11 +49,34 @@ export interface PlanSettingsInput {
   readonly sampleStops?: number;
   /** Worker threads for the starts (default: up to 2, fewer on a one-core machine). Results do not depend on it. */
   readonly threads?: number;
+  /** No zone's demand above this. */
+  readonly capacity?: number;
+  /** CSV of zone (number or depot id) -> capacity; overrides `capacity` for the zones it names. */
+  readonly capacityFile?: string;
+  /** Every zone's demand within +-balance of the mean zone demand (0.05 = 5%). */
+  readonly balance?: number;
+  /** Stops per zone, at least / at most. */
+  readonly minStops?: number;
+  readonly maxStops?: number;
+  /** CSV or GeoJSON of fixed depots (id, lat, lon, optional capacity): the first zones, centres fixed. */
+  readonly depotsFile?: string;
+  /** CSV of stop id -> zone (number or depot id): stops that must stay in that zone. */
+  readonly locksFile?: string;
 }
 
 /** One zone's figures, 1-based zone label. Distances are great-circle km, not drive times. */
 export interface ZoneRow {
   readonly zone: number;
+  /** The depot id of a fixed depot's zone, else null. */
+  readonly name: string | null;
+  /** True when the centre is a fixed depot. */
+  readonly fixed: boolean;
+  /** The zone's demand bounds (null: none) and its demand as a share of the upper one. */
+  readonly maxDemand: number | null;
+  readonly minDemand: number | null;
+  readonly utilisation: number | null;
+  /** True when the zone breaks one of its bounds. */
+  readonly breaksLimits: boolean;
   readonly centre: [lon: number, lat: number];
   readonly stops: number;
   readonly demand: number;
@@ -60,8 +85,35 @@ export interface ZoneRow {
   readonly objectiveKm2: number;
 }
 
+/** A bound the final plan breaks, and by how much. */
+export interface LimitBreach {
+  readonly zone: number;
+  readonly kind: 'over-demand' | 'under-demand' | 'over-stops' | 'under-stops';
+  readonly load: number;
+  readonly bound: number;
+  readonly by: number;
+}
+
+/** How the workload limits came out. */
+export interface LimitsOutcome {
+  /** The LP relaxation's lower bound on the objective at the final centres, and the plan's gap to it. */
+  readonly lowerBoundKm2: number;
+  readonly gap: number;
+  readonly feasible: boolean;
+  readonly breaches: readonly LimitBreach[];
+  /** Stops the LP split between zones (each rounded to one), repair moves. */
+  readonly split: number;
+  readonly repaired: number;
+  readonly notes: readonly string[];
+}
+
 export interface PlanReport {
   readonly input: CheckReport;
+  /** Null when no workload limit was set. */
+  readonly limits: LimitsOutcome | null;
+  /** Zones with fixed centres (depots) and stops locked to a zone. */
+  readonly fixedZones: number;
+  readonly lockedStops: number;
   readonly zones: readonly ZoneRow[];
   readonly objectiveKm2: number;
   readonly iterations: number;
@@ -85,4 +137,26 @@ export interface PlanProgressEvent {
   readonly restart?: number;
   readonly iteration?: number;
   readonly moved?: number;
+}
+
+/** One number of zones in a sweep: the data for a "how many zones" chart. */
+export interface SweepRow {
+  readonly zones: number;
+  readonly objectiveKm2: number;
+  /** Largest zone demand over the smallest (Infinity when a zone is empty). */
+  readonly maxMinRatio: number;
+  /** Coefficient of variation of zone demand (standard deviation / mean). */
+  readonly demandCv: number;
+  readonly meanKm: number;
+  readonly maxKm: number;
+  /** With limits: whether all bounds hold, and the gap to the LP bound. */
+  readonly feasible: boolean | null;
+  readonly gap: number | null;
+  readonly ms: number;
+}
+
+export interface SweepReport {
+  readonly input: CheckReport;
+  readonly rows: readonly SweepRow[];
+  readonly distanceNote: string;
 }

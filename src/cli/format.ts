@@ -1,4 +1,4 @@
-import type { InputProblem, PlanReport, ZoneRow } from '../api/types.js';
+import type { InputProblem, PlanReport, SweepReport, SweepRow, ZoneRow } from '../api/types.js';
 
 /** Right-aligned text table with a header row. */
 export function table(header: readonly string[], rows: readonly (readonly string[])[]): string {
@@ -17,9 +17,27 @@ export function amount(x: number): string {
 }
 
 export function zoneTable(zones: readonly ZoneRow[]): string {
+  const limited = zones.some((z) => z.maxDemand !== null || z.minDemand !== null);
+  const named = zones.some((z) => z.name !== null);
+  const header = ['zone', ...(named ? ['depot'] : []), 'stops', 'demand', ...(limited ? ['min', 'max', 'use %', ''] : []), 'mean km', 'max km'];
   return table(
-    ['zone', 'stops', 'demand', 'mean km', 'max km'],
-    zones.map((z) => [String(z.zone), String(z.stops), amount(z.demand), fixed(z.meanKm, 2), fixed(z.maxKm, 2)]),
+    header,
+    zones.map((z) => [
+      String(z.zone),
+      ...(named ? [z.name ?? ''] : []),
+      String(z.stops),
+      amount(z.demand),
+      ...(limited
+        ? [
+            z.minDemand !== null ? fixed(z.minDemand, 1) : '-',
+            z.maxDemand !== null ? fixed(z.maxDemand, 1) : '-',
+            z.utilisation !== null ? fixed(z.utilisation * 100, 1) : '-',
+            z.breaksLimits ? 'OVER/UNDER' : '',
+          ]
+        : []),
+      fixed(z.meanKm, 2),
+      fixed(z.maxKm, 2),
+    ]),
   );
 }
 
@@ -38,10 +56,48 @@ export function planText(r: PlanReport): string {
     '',
     `stops ${r.input.stops}, demand ${amount(r.input.totalDemand)}, zones ${r.zones.length}`,
     `objective ${r.objectiveKm2.toExponential(6)} km² (sum of demand x squared great-circle km to the zone centre)`,
-    `${r.converged ? 'converged' : 'NOT converged (iteration cap reached)'} after ${r.iterations} iterations; best of ${r.restarts} starts (seed ${r.seed})${r.startStops < r.input.stops ? `, starts compared on a sample of ${r.startStops} stops` : ''}`,
+    `${r.converged ? 'converged' : 'NOT converged (iteration cap reached)'} after ${r.iterations} iterations; ${r.restarts > 0 ? `best of ${r.restarts} starts` : 'started from the fixed depots'} (seed ${r.seed})${r.startStops < r.input.stops ? `, starts compared on a sample of ${r.startStops} stops` : ''}`,
   ];
+  if (r.fixedZones > 0 || r.lockedStops > 0) lines.push(`${r.fixedZones} zone${r.fixedZones === 1 ? '' : 's'} with a fixed depot, ${r.lockedStops} stop${r.lockedStops === 1 ? '' : 's'} locked to a zone`);
+  if (r.limits) {
+    const l = r.limits;
+    lines.push(
+      `limits: ${l.feasible ? 'every zone bound is met' : `${l.breaches.length} bound${l.breaches.length === 1 ? '' : 's'} NOT met`}; LP lower bound ${l.lowerBoundKm2.toExponential(6)} km², gap ${(l.gap * 100).toFixed(3)}% (${l.split} stop${l.split === 1 ? '' : 's'} split by the LP, rounded)`,
+    );
+    for (const b of l.breaches) {
+      const what = b.kind === 'over-demand' ? 'demand over its maximum' : b.kind === 'under-demand' ? 'demand under its minimum' : b.kind === 'over-stops' ? 'stops over their maximum' : 'stops under their minimum';
+      lines.push(`  zone ${b.zone}: ${what} ${fixed(b.bound, 2)} by ${fixed(b.by, 2)} (has ${fixed(b.load, 2)})`);
+    }
+  }
   if (r.files.geojson) lines.push(`plan written to ${r.files.geojson}`);
   if (r.files.assignments) lines.push(`assignments written to ${r.files.assignments}`);
   lines.push(`note: ${r.distanceNote}`);
   return lines.join('\n');
+}
+
+export function sweepText(r: SweepReport): string {
+  const lines = [
+    table(
+      ['zones', 'objective km²', 'max/min demand', 'demand CV', 'mean km', 'max km', 'limits', 'gap %'],
+      r.rows.map((row) => [
+        String(row.zones),
+        row.objectiveKm2.toExponential(4),
+        Number.isFinite(row.maxMinRatio) ? fixed(row.maxMinRatio, 3) : 'inf',
+        fixed(row.demandCv, 4),
+        fixed(row.meanKm, 2),
+        fixed(row.maxKm, 2),
+        row.feasible === null ? '-' : row.feasible ? 'met' : 'NOT met',
+        row.gap === null ? '-' : fixed(row.gap * 100, 3),
+      ]),
+    ),
+    '',
+    `note: ${r.distanceNote}`,
+  ];
+  return lines.join('\n');
+}
+
+/** The sweep rows as CSV (RFC 4180). */
+export function sweepCsv(rows: readonly SweepRow[]): string {
+  const head = 'zones,objective_km2,max_min_demand_ratio,demand_cv,mean_km,max_km,limits_met,gap';
+  return `${[head, ...rows.map((r) => [r.zones, r.objectiveKm2, r.maxMinRatio, r.demandCv, r.meanKm, r.maxKm, r.feasible ?? '', r.gap ?? ''].join(','))].join('\n')}\n`;
 }

@@ -1,10 +1,12 @@
 import { Command, CommanderError, InvalidArgumentError, Option } from 'commander';
 import { checkStopsFile, planStopsFile } from '../api/plan-file.js';
+import { sweepStopsFile } from '../api/sweep.js';
+import { writeFileAtomic } from '../io/atomic.js';
 import type { StopFileOptions, PlanSettingsInput } from '../api/types.js';
 import { ImportError, formatProblem } from '../io/problems.js';
 import { WriteError } from '../io/atomic.js';
 import { SolveError } from '../solve/types.js';
-import { planText, problemLine, fixed, amount } from './format.js';
+import { planText, problemLine, fixed, amount, sweepText, sweepCsv } from './format.js';
 
 /** Exit codes: 0 done; 2 the user must change something (input, options, destination); 1 internal fault. */
 export const EXIT_OK = 0;
@@ -30,6 +32,63 @@ function wholeNumber(min: number, what: string) {
     if (n < min) throw new InvalidArgumentError(`${what} must be at least ${min}, got ${n}`);
     return n;
   };
+}
+
+function zonesOption(v: string): number | 'auto' {
+  if (v.trim().toLowerCase() === 'auto') return 'auto';
+  return wholeNumber(1, 'zones')(v);
+}
+
+function positiveNumber(what: string) {
+  return (v: string): number => {
+    const n = Number(v.trim());
+    if (!/^\d+(\.\d+)?([eE][+-]?\d+)?$/.test(v.trim()) || !Number.isFinite(n)) throw new InvalidArgumentError(`${what} must be a number >= 0, got "${v}"`);
+    return n;
+  };
+}
+
+/** "5%" or "0.05" -> 0.05. */
+function fractionOption(v: string): number {
+  const s = v.trim();
+  const pct = s.endsWith('%');
+  const n = Number(pct ? s.slice(0, -1) : s);
+  if (!Number.isFinite(n) || n < 0) throw new InvalidArgumentError(`balance must be a fraction like 0.05 or a percentage like 5%, got "${v}"`);
+  const f = pct ? n / 100 : n;
+  if (f >= 1) throw new InvalidArgumentError(`balance must be below 100% (0.05 = within 5% of the mean zone demand), got "${v}"`);
+  return f;
+}
+
+/** "5..40" -> {from: 5, to: 40}. */
+function rangeOption(v: string): { from: number; to: number } {
+  const m = /^\s*(\d+)\s*(?:\.\.|-)\s*(\d+)\s*$/.exec(v);
+  if (!m) throw new InvalidArgumentError(`zones must be a range FROM..TO, e.g. 5..40, got "${v}"`);
+  const from = Number(m[1]);
+  const to = Number(m[2]);
+  if (from < 1 || to < from) throw new InvalidArgumentError(`zones range needs 1 <= FROM <= TO, got "${v}"`);
+  return { from, to };
+}
+
+function addLimitOptions(cmd: Command): Command {
+  return cmd
+    .option('--capacity <Q>', 'no zone may carry more demand than Q (workload units)', positiveNumber('capacity'))
+    .option('--capacity-file <file>', 'CSV of zone (number or depot id), capacity: per-zone capacities')
+    .option('--balance <t>', 'every zone within +-t of the mean zone demand, e.g. 5% or 0.05', fractionOption)
+    .option('--min-stops <n>', 'at least n stops per zone', wholeNumber(0, 'min-stops'))
+    .option('--max-stops <n>', 'at most n stops per zone', wholeNumber(1, 'max-stops'))
+    .option('--depots <file>', 'fixed depots (CSV or GeoJSON: id, lat, lon, optional capacity): the first zones, centres stay there')
+    .option('--locks <file>', 'CSV of stop id, zone (number or depot id): stops that must stay in that zone');
+}
+
+function limitSettings(o: Record<string, unknown>): Partial<PlanSettingsInput> {
+  const s: { -readonly [K in keyof PlanSettingsInput]?: PlanSettingsInput[K] } = {};
+  if (o.capacity !== undefined) s.capacity = o.capacity as number;
+  if (typeof o.capacityFile === 'string') s.capacityFile = o.capacityFile;
+  if (o.balance !== undefined) s.balance = o.balance as number;
+  if (o.minStops !== undefined) s.minStops = o.minStops as number;
+  if (o.maxStops !== undefined) s.maxStops = o.maxStops as number;
+  if (typeof o.depots === 'string') s.depotsFile = o.depots;
+  if (typeof o.locks === 'string') s.locksFile = o.locks;
+  return s;
 }
 
 function delimiterOption(v: string): ',' | ';' | '\t' {
@@ -93,13 +152,13 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
       }
     });
 
-  addReadOptions(
+  const planCommand = addReadOptions(
     program
       .command('plan')
       .description('plan K zones for a stops file; print per-zone figures; optionally write the plan')
       .argument('<input>', 'stops file: CSV with a header, or GeoJSON FeatureCollection of Points'),
   )
-    .requiredOption('-k, --zones <K>', 'number of zones (vans, depots, technicians)', wholeNumber(1, 'zones'))
+    .requiredOption('-k, --zones <K>', "number of zones (vans, depots, technicians), or 'auto' with --capacity: the fewest that carry the demand", zonesOption)
     .option('--seed <n>', 'seed of the random starts: same input, settings and seed give the same plan (default 1)', wholeNumber(0, 'seed'))
     .option('--restarts <n>', 'k-means++ starts; the best is kept (default 4)', wholeNumber(1, 'restarts'))
     .option('--max-iterations <n>', 'iteration cap; a plan that reaches it is reported as not converged (default 500)', wholeNumber(1, 'max-iterations'))
@@ -109,9 +168,9 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
     .option('-o, --out <file>', 'write the plan as GeoJSON (RFC 7946): stops and zone centres')
     .option('--assignments <file>', 'write stop assignments as CSV: stop_id, zone, km_to_centre, demand')
     .option('--json', 'print the plan report as JSON on stdout')
-    .option('--quiet', 'no progress line on stderr')
-    .action(async (input: string, o: Record<string, unknown>) => {
-      const settings: { -readonly [K in keyof PlanSettingsInput]: PlanSettingsInput[K] } = { zones: o.zones as number };
+    .option('--quiet', 'no progress line on stderr');
+  addLimitOptions(planCommand).action(async (input: string, o: Record<string, unknown>) => {
+      const settings: { -readonly [K in keyof PlanSettingsInput]: PlanSettingsInput[K] } = { zones: o.zones as number | 'auto', ...limitSettings(o) };
       if (o.seed !== undefined) settings.seed = o.seed as number;
       if (o.restarts !== undefined) settings.restarts = o.restarts as number;
       if (o.maxIterations !== undefined) settings.maxIterations = o.maxIterations as number;
@@ -140,8 +199,41 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
       if (showProgress) io.err('\r\x1b[K');
       for (const w of report.input.warnings) io.err(`${problemLine(w)}\n`);
       if (!report.converged) io.err(`warning: the plan did not converge within the iteration cap; raise --max-iterations for a settled plan\n`);
+      for (const note of report.limits?.notes ?? []) io.err(`note: ${note}\n`);
+      if (report.limits && !report.limits.feasible) {
+        io.err(`warning: ${report.limits.breaches.length} zone bound${report.limits.breaches.length === 1 ? '' : 's'} could not be met (see the limits lines); the plan was still written\n`);
+      }
       io.out(o.json ? `${JSON.stringify(report, null, 2)}\n` : `${planText(report)}\n`);
     });
+
+  const sweepCommand = addReadOptions(
+    program
+      .command('sweep')
+      .description('plan every number of zones in a range and report objective and workload spread per K (how many zones?)')
+      .argument('<input>', 'stops file: CSV with a header, or GeoJSON FeatureCollection of Points'),
+  )
+    .requiredOption('-k, --zones <FROM..TO>', 'range of zone counts, e.g. 5..40', rangeOption)
+    .option('--step <n>', 'every n-th zone count (default 1)', wholeNumber(1, 'step'))
+    .option('--seed <n>', 'seed of the random starts (default 1)', wholeNumber(0, 'seed'))
+    .option('--restarts <n>', 'k-means++ starts per zone count (default 2)', wholeNumber(1, 'restarts'))
+    .option('--csv <file>', 'also write the rows as CSV')
+    .option('--json', 'print the report as JSON on stdout');
+  addLimitOptions(sweepCommand).action(async (input: string, o: Record<string, unknown>) => {
+    const range = o.zones as { from: number; to: number };
+    const settings = {
+      restarts: (o.restarts as number | undefined) ?? 2,
+      ...(o.seed !== undefined ? { seed: o.seed as number } : {}),
+      ...limitSettings(o),
+    };
+    const report = await sweepStopsFile(input, readOptions(o), settings, { ...range, ...(o.step !== undefined ? { step: o.step as number } : {}) }, {
+      onRow: (r) => {
+        if (!o.json && io.isTty) io.err(`  K=${r.zones} done\n`);
+      },
+    });
+    if (typeof o.csv === 'string') writeFileAtomic(o.csv, sweepCsv(report.rows));
+    if (o.json) io.out(`${JSON.stringify(report, null, 2)}\n`);
+    else io.out(`${sweepText(report)}\n`);
+  });
 
   try {
     await program.parseAsync(argv as string[], { from: 'user' });

@@ -61,7 +61,7 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
     const lat = pickField(header, 'lat', options.lat);
     const lon = pickField(header, 'lon', options.lon);
     const id = pickField(header, 'id', options.id);
-    const demand = pickField(header, 'demand', options.demand);
+    const demand = options.demand === null ? -1 : pickField(header, 'demand', options.demand);
     const columns = header.length > 0 ? header.map((h) => `"${h}"`).join(', ') : '(none)';
     for (const [role, got] of [['latitude', lat], ['longitude', lon], ['id', id], ['demand', demand]] as const) {
       if (typeof got === 'object') need.push({ field: got.missing, message: `the ${role} column "${got.missing}" was asked for but the header has only ${columns}` });

@@ -3,7 +3,8 @@ export interface FieldChoice {
   readonly id?: string;
   readonly lat?: string;
   readonly lon?: string;
-  readonly demand?: string;
+  /** The demand column; null: none (every stop counts 1). */
+  readonly demand?: string | null;
 }
 
 /** Usual names, compared without case, spaces, underscores or hyphens. */

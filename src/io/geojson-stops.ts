@@ -139,8 +139,8 @@ export function parseStopsGeoJson(text: string, file: string, options: GeoJsonOp
       if (idKey) idName = idKey;
     }
     if (demandKey === undefined) {
-      demandKey = propertyKey(props, 'demand', options.demand);
-      if (options.demand !== undefined && demandKey === null) {
+      demandKey = options.demand === null ? null : propertyKey(props, 'demand', options.demand);
+      if (typeof options.demand === 'string' && demandKey === null) {
         log.error({ code: 'header', feature: index, field: options.demand, message: `the demand property "${options.demand}" was asked for but the feature has only ${Object.keys(props).map((k) => `"${k}"`).join(', ') || 'no properties'}` });
       }
       demandName = demandKey;

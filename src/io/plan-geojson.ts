@@ -14,6 +14,8 @@ export interface PlanSummary {
   readonly iterations: number;
   readonly converged: boolean;
   readonly seed: number | null;
+  /** With workload limits: the LP lower bound at the final centres, the gap to it, whether all bounds hold. */
+  readonly limits: { readonly lowerBoundKm2: number; readonly gap: number; readonly feasible: boolean } | null;
   readonly distanceNote: string;
 }
 
@@ -35,16 +37,21 @@ export function* planGeoJsonChunks(stops: StopSet, plan: Plan, figures: PlanFigu
     iterations: plan.iterations,
     converged: plan.converged,
     seed: plan.settings.seed ?? null,
+    limits: plan.limits ? { lowerBoundKm2: round(plan.limits.lowerBoundKm2, 3), gap: plan.limits.gap, feasible: plan.limits.feasible } : null,
     distanceNote: DISTANCE_NOTE,
   };
   yield `{"type":"FeatureCollection","plan":${JSON.stringify(summary)},"features":[\n`;
   let first = true;
   for (const z of figures.zones) {
+    const max = plan.limits && Number.isFinite(plan.limits.bounds.maxDemand[z.zone]!) ? plan.limits.bounds.maxDemand[z.zone]! : null;
     const props = {
       role: 'centre',
       zone: plan.zoneIds[z.zone],
+      ...(plan.zoneNames[z.zone] ? { name: plan.zoneNames[z.zone] } : {}),
+      fixed: z.zone < plan.fixedZones,
       stops: z.stops,
       demand: z.demand,
+      ...(max !== null ? { capacity: round(max, 6), utilisation: max > 0 ? round(z.demand / max, 4) : null } : {}),
       meanKm: round(z.meanKm, 3),
       maxKm: round(z.maxKm, 3),
     };
@@ -52,11 +59,11 @@ export function* planGeoJsonChunks(stops: StopSet, plan: Plan, figures: PlanFigu
     first = false;
   }
   const { ids, lonLat, demand } = stops;
-  const { assignment } = plan;
+  const { assignment, locked } = plan;
   const km = figures.stopKm;
   let buffer = '';
   for (let i = 0; i < ids.length; i++) {
-    buffer += `,\n{"type":"Feature","geometry":{"type":"Point","coordinates":[${deg6(lonLat[2 * i]!)},${deg6(lonLat[2 * i + 1]!)}]},"properties":{"role":"stop","id":${JSON.stringify(ids[i])},"zone":${plan.zoneIds[assignment[i]!]},"demand":${demand[i]},"km":${decimals(km[i]!, 3)}}}`;
+    buffer += `,\n{"type":"Feature","geometry":{"type":"Point","coordinates":[${deg6(lonLat[2 * i]!)},${deg6(lonLat[2 * i + 1]!)}]},"properties":{"role":"stop","id":${JSON.stringify(ids[i])},"zone":${plan.zoneIds[assignment[i]!]},"demand":${demand[i]},"km":${decimals(km[i]!, 3)}${locked && locked[i]! >= 0 ? ',"locked":true' : ''}}}`;
     if (buffer.length > 1 << 20) {
       yield buffer;
       buffer = '';

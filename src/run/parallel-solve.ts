@@ -2,6 +2,7 @@ import { Worker } from 'node:worker_threads';
 import { availableParallelism } from 'node:os';
 import { finishSteps, prepareStarts, runStartAlone, type StartOutcome } from '../solve/kmeans.js';
 import { SolveError, type SolveInput, type SolveProgress, type SolveResult, type SolveSettings } from '../solve/types.js';
+import { drive } from '../solve/drive.js';
 
 /** What a start worker is given: the stops the starts run on (shared, not copied) and which starts. */
 export interface StartJob {
@@ -117,19 +118,5 @@ export async function solveZonesParallel(input: SolveInput, settings: SolveSetti
     }
   }
 
-  const steps = finishSteps(input, prepared, outcomes);
-  let last = performance.now();
-  for (;;) {
-    const r = steps.next();
-    if (r.done) return r.value;
-    hooks.onProgress?.(r.value);
-    if (performance.now() - last >= 50) {
-      await new Promise<void>((resolve) => setTimeout(resolve, 0));
-      last = performance.now();
-    }
-    if (hooks.signal?.aborted) {
-      steps.return(undefined as never);
-      cancelled();
-    }
-  }
+  return drive(finishSteps(input, prepared, outcomes), { ...(hooks.onProgress ? { onProgress: hooks.onProgress } : {}), ...(hooks.signal ? { signal: hooks.signal } : {}) });
 }

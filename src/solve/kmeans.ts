@@ -3,6 +3,7 @@ import { ZoneEngine } from './engine.js';
 import { seedCentres, seedScratch, type SeedScratch } from './seed.js';
 import { countDistinctUpTo } from './distinct.js';
 import { guessAssignment } from './guess.js';
+import { drive, type DriveHooks } from './drive.js';
 import {
   SolveError,
   type IterationRecord,
@@ -426,37 +427,10 @@ export function solveZones(input: SolveInput, settings: SolveSettings): SolveRes
   }
 }
 
-export interface SolveHooks {
-  onProgress?: (p: SolveProgress) => void;
-  signal?: AbortSignal;
-  /** Longest stretch of computation between two yields to the event loop, ms (default 50). */
-  sliceMs?: number;
-}
+export type SolveHooks = DriveHooks;
 
-/**
- * Runs the solve with progress reports and cancellation. Between iterations it gives the event
- * loop a turn at least every `sliceMs`, so that an abort (a Cancel button, a worker message) is
- * seen within one iteration. A cancelled run throws a SolveError with code 'cancelled'.
- */
+/** Runs the solve with progress reports and cancellation (see drive). */
 export async function solveZonesAsync(input: SolveInput, settings: SolveSettings, hooks: SolveHooks = {}): Promise<SolveResult> {
-  const slice = hooks.sliceMs ?? 50;
-  const cancelled = (): never => {
-    throw new SolveError('the plan run was cancelled; nothing was changed', 'cancelled');
-  };
-  if (hooks.signal?.aborted) cancelled();
-  const steps = solveSteps(input, settings);
-  let last = performance.now();
-  for (;;) {
-    const r = steps.next();
-    if (r.done) return r.value;
-    hooks.onProgress?.(r.value);
-    if (performance.now() - last >= slice) {
-      await new Promise<void>((resolve) => setTimeout(resolve, 0));
-      last = performance.now();
-    }
-    if (hooks.signal?.aborted) {
-      steps.return(undefined as never);
-      cancelled();
-    }
-  }
+  if (hooks.signal?.aborted) throw new SolveError('the plan run was cancelled; nothing was changed', 'cancelled');
+  return drive(solveSteps(input, settings), hooks);
 }

@@ -1,9 +1,12 @@
+import type { LimitsReport } from './limited.js';
 import type { SolveResult, SolveSettings } from './types.js';
 
 /** A plan: K zones with centres, and the zone of every stop. What is saved, shown and exported. */
 export interface Plan {
   /** Zone labels shown to people and written to files, by zone index; default 1..K. */
   readonly zoneIds: readonly number[];
+  /** Names of zones where one is known (the depot id of a fixed depot's zone), else null. */
+  readonly zoneNames: readonly (string | null)[];
   /** Unit vectors of the centres, interleaved; length 3K. */
   readonly centres: Float64Array;
   /** Zone index (0-based, into zoneIds) of every stop. */
@@ -12,16 +15,31 @@ export interface Plan {
   readonly iterations: number;
   readonly converged: boolean;
   readonly settings: SolveSettings;
+  /** Zones 0..fixedZones-1 have fixed centres (depots). */
+  readonly fixedZones: number;
+  /** Stops that must stay in their zone (zone index, or -1), when any were locked. */
+  readonly locked: Int32Array | null;
+  /** What the workload limits did, when there were any. */
+  readonly limits: LimitsReport | null;
 }
 
-export function planFromSolve(result: SolveResult, settings: SolveSettings): Plan {
+export function planFromSolve(
+  result: SolveResult & { limits?: LimitsReport | null; fixedZones?: number },
+  settings: SolveSettings,
+  extra: { zoneNames?: readonly (string | null)[]; locked?: Int32Array | null } = {},
+): Plan {
+  const k = result.zones;
   return {
-    zoneIds: Array.from({ length: result.zones }, (_, j) => j + 1),
+    zoneIds: Array.from({ length: k }, (_, j) => j + 1),
+    zoneNames: extra.zoneNames ?? new Array<string | null>(k).fill(null),
     centres: result.centres,
     assignment: result.assignment,
     objectiveKm2: result.objectiveKm2,
     iterations: result.iterations,
     converged: result.converged,
     settings: { ...settings, seed: result.seed },
+    fixedZones: result.fixedZones ?? 0,
+    locked: extra.locked ?? null,
+    limits: result.limits ?? null,
   };
 }

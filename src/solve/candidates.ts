@@ -1,0 +1,110 @@
+import { angleFromChord } from '../geo/distance.js';
+
+/**
+ * The C nearest zone centres of every stop, exactly, with the squared central angle to each
+ * (radians^2), nearest first. The capacity-limited assignment moves stops between these; a zone
+ * beyond a stop's list is at least `farthest` away, which bounds what it could offer.
+ */
+export interface Candidates {
+  readonly n: number;
+  readonly k: number;
+  /** Candidates per stop, min(C, K). */
+  readonly c: number;
+  /** Zone of candidate s of stop i at [i * c + s]. */
+  readonly zone: Int32Array;
+  /** Squared central angle (rad^2) to that zone's centre. */
+  readonly angle2: Float64Array;
+  /** Squared angle to the c-th nearest centre: a lower bound for every zone not in the list (Infinity when c = K). */
+  readonly farthest: Float64Array;
+}
+
+/**
+ * Finds the C nearest centres of every stop. Each stop starts from a guessed zone (`guess`, e.g.
+ * its zone in the last plan) and searches the other centres outwards in order of their chord
+ * distance from the guess; the search stops when no remaining centre can enter the list
+ * (triangle inequality: chord(x, c_j) >= D(g, j) - chord(x, c_g)). Exact for any guess; fast
+ * for a good one.
+ */
+export function nearestCandidates(units: Float64Array, centres: Float64Array, count: number, guess?: Int32Array): Candidates {
+  const n = units.length / 3;
+  const k = centres.length / 3;
+  const c = Math.max(1, Math.min(count, k));
+  const zone = new Int32Array(n * c);
+  const angle2 = new Float64Array(n * c);
+  const farthest = new Float64Array(n);
+  // Centre-centre chords, each centre's others sorted by them.
+  const m = k - 1;
+  const order = new Int32Array(k * m);
+  const orderChord = new Float64Array(k * m);
+  const chords = new Float64Array(k);
+  const idx: number[] = [];
+  for (let a = 0; a < k; a++) {
+    idx.length = 0;
+    for (let j = 0; j < k; j++) {
+      if (j === a) continue;
+      const dx = centres[3 * a]! - centres[3 * j]!;
+      const dy = centres[3 * a + 1]! - centres[3 * j + 1]!;
+      const dz = centres[3 * a + 2]! - centres[3 * j + 2]!;
+      chords[j] = Math.sqrt(dx * dx + dy * dy + dz * dz);
+      idx.push(j);
+    }
+    idx.sort((p, q) => chords[p]! - chords[q]! || p - q);
+    for (let t = 0; t < m; t++) {
+      order[a * m + t] = idx[t]!;
+      orderChord[a * m + t] = chords[idx[t]!]!;
+    }
+  }
+  const bestZone = new Int32Array(c);
+  const bestChord = new Float64Array(c);
+  let x = 0;
+  let y = 0;
+  let z = 0;
+  let filled = 0;
+  const consider = (j: number): void => {
+    const dx = x - centres[3 * j]!;
+    const dy = y - centres[3 * j + 1]!;
+    const dz = z - centres[3 * j + 2]!;
+    const d = Math.sqrt(dx * dx + dy * dy + dz * dz);
+    if (filled === c && !(d < bestChord[c - 1]! || (d === bestChord[c - 1]! && j < bestZone[c - 1]!))) return;
+    let s = filled < c ? filled++ : c - 1;
+    while (s > 0 && (bestChord[s - 1]! > d || (bestChord[s - 1]! === d && bestZone[s - 1]! > j))) {
+      bestChord[s] = bestChord[s - 1]!;
+      bestZone[s] = bestZone[s - 1]!;
+      s--;
+    }
+    bestChord[s] = d;
+    bestZone[s] = j;
+  };
+  for (let i = 0; i < n; i++) {
+    x = units[3 * i]!;
+    y = units[3 * i + 1]!;
+    z = units[3 * i + 2]!;
+    filled = 0;
+    const g = guess ? guess[i]! : 0;
+    consider(g);
+    const dx = x - centres[3 * g]!;
+    const dy = y - centres[3 * g + 1]!;
+    const dz = z - centres[3 * g + 2]!;
+    const u = Math.sqrt(dx * dx + dy * dy + dz * dz);
+    for (let t = 0; t < m; t++) {
+      if (filled === c && orderChord[g * m + t]! - u > bestChord[c - 1]!) break;
+      consider(order[g * m + t]!);
+    }
+    for (let s = 0; s < c; s++) {
+      zone[i * c + s] = bestZone[s]!;
+      const a = angleFromChord(bestChord[s]!);
+      angle2[i * c + s] = a * a;
+    }
+    farthest[i] = c === k ? Infinity : angle2[i * c + c - 1]!;
+  }
+  return { n, k, c, zone, angle2, farthest };
+}
+
+/** Squared central angle (rad^2) between stop i and centre j, computed directly. */
+export function angle2To(units: Float64Array, i: number, centres: Float64Array, j: number): number {
+  const dx = units[3 * i]! - centres[3 * j]!;
+  const dy = units[3 * i + 1]! - centres[3 * j + 1]!;
+  const dz = units[3 * i + 2]! - centres[3 * j + 2]!;
+  const a = angleFromChord(Math.sqrt(dx * dx + dy * dy + dz * dz));
+  return a * a;
+}

@@ -1,0 +1,284 @@
+import { EARTH_RADIUS_KM } from '../geo/constants.js';
+import { angle2To, nearestCandidates, type Candidates } from './candidates.js';
+import { ZoneFlow } from './flow.js';
+import { WholeStops } from './repair.js';
+
+const R2 = EARTH_RADIUS_KM * EARTH_RADIUS_KM;
+
+/**
+ * Limits per zone, by zone index, for all its stops (locked ones included). Demand bounds are in
+ * workload units (parcels, minutes, ...), stop bounds in stops. Infinity / 0 mean "no bound".
+ */
+export interface ZoneBounds {
+  readonly maxDemand: Float64Array;
+  readonly minDemand: Float64Array;
+  readonly maxStops: Float64Array;
+  readonly minStops: Float64Array;
+}
+
+/** Zone prices of an assignment step, to start the next one from (centres move little). */
+export interface Prices {
+  /** Added per unit of demand to a stop's squared central angle (rad^2). */
+  readonly demand: Float64Array;
+  /** Added per stop (when stop counts are what the flow carries). */
+  readonly stops: Float64Array;
+}
+
+export type LimitKind = 'over-demand' | 'under-demand' | 'over-stops' | 'under-stops';
+
+/** A zone bound the assignment could not meet, and by how much. */
+export interface ZoneViolation {
+  readonly zone: number;
+  readonly kind: LimitKind;
+  /** The zone's demand or stop count, and the bound it breaks. */
+  readonly load: number;
+  readonly bound: number;
+  /** |load - bound|. */
+  readonly by: number;
+}
+
+export interface LimitOptions {
+  /** Candidate zones per stop (default 8). */
+  readonly candidates?: number;
+  /** Prices to start from. */
+  readonly warm?: Prices;
+  /** A guess of each stop's zone (speeds up the candidate search). */
+  readonly guess?: Int32Array;
+  /** Shortest paths at most (default 50 n + 10 000). */
+  readonly maxPaths?: number;
+}
+
+/**
+ * The LP relaxation of one assignment step (stops may be split between zones), solved exactly
+ * as a min-cost flow (src/solve/flow.ts), with its dual bound.
+ */
+export interface LimitLp {
+  readonly candidates: Candidates;
+  readonly flow: ZoneFlow;
+  /** Stops not locked, by index. */
+  readonly free: readonly number[];
+  /** Demand and stop counts of the locked stops per zone. */
+  readonly lockedDemand: Float64Array;
+  readonly lockedStops: Float64Array;
+  /** Sum of demand x angle^2 (rad^2) of the locked stops. */
+  readonly lockedCost: number;
+  /** Bounds left for the free stops. */
+  readonly freeBounds: ZoneBounds;
+  /** True when the flow carries demand (demand bounds set, or none); false: stop counts. */
+  readonly byDemand: boolean;
+  /** The LP's objective (sum of demand x great-circle km^2, split stops in part). */
+  readonly lpObjectiveKm2: number;
+  /** The Lagrangian dual at the final prices: a lower bound on every assignment in the bounds. */
+  readonly lowerBoundKm2: number;
+  readonly prices: Prices;
+  /** True when the bounds could not all be met even with stops split. */
+  readonly blocked: boolean;
+}
+
+/**
+ * Solves the LP relaxation of the capacity-limited assignment step at fixed centres: minimise
+ * the sum of demand x squared great-circle distance subject to every zone's demand (or stop
+ * count) bounds, locked stops fixed. When both demand and stop-count bounds are set, the flow
+ * carries demand and the stop counts are left to the whole-stop repair (assignWithLimits).
+ */
+export function solveLimitLp(units: Float64Array, demand: Float64Array, centres: Float64Array, bounds: ZoneBounds, locked: Int32Array | null, options: LimitOptions = {}): LimitLp {
+  const n = demand.length;
+  const k = centres.length / 3;
+  const candidates = nearestCandidates(units, centres, options.candidates ?? 8, options.guess);
+  const lockedDemand = new Float64Array(k);
+  const lockedStops = new Float64Array(k);
+  let lockedCost = 0;
+  const free: number[] = [];
+  for (let i = 0; i < n; i++) {
+    const l = locked ? locked[i]! : -1;
+    if (l >= 0) {
+      lockedDemand[l]! += demand[i]!;
+      lockedStops[l]!++;
+      lockedCost += demand[i]! * angle2To(units, i, centres, l);
+    } else free.push(i);
+  }
+  const freeBounds: ZoneBounds = {
+    maxDemand: bounds.maxDemand.map((b, j) => b - lockedDemand[j]!),
+    minDemand: bounds.minDemand.map((b, j) => Math.max(0, b - lockedDemand[j]!)),
+    maxStops: bounds.maxStops.map((b, j) => b - lockedStops[j]!),
+    minStops: bounds.minStops.map((b, j) => Math.max(0, b - lockedStops[j]!)),
+  };
+  let demandBounded = false;
+  let stopsBounded = false;
+  for (let j = 0; j < k; j++) {
+    if (Number.isFinite(freeBounds.maxDemand[j]!) || freeBounds.minDemand[j]! > 0) demandBounded = true;
+    if (Number.isFinite(freeBounds.maxStops[j]!) || freeBounds.minStops[j]! > 0) stopsBounded = true;
+  }
+  const byDemand = demandBounded || !stopsBounded;
+  const supply = byDemand ? demand : new Float64Array(n).fill(1);
+  const costFactor = byDemand ? new Float64Array(n).fill(1) : demand;
+  const carried = Int32Array.from(free.filter((i) => supply[i]! > 0));
+  const upper = byDemand ? freeBounds.maxDemand : freeBounds.maxStops;
+  const lower = byDemand ? freeBounds.minDemand : freeBounds.minStops;
+  const flow = new ZoneFlow(
+    units,
+    centres,
+    candidates,
+    carried,
+    supply,
+    costFactor,
+    { upper, lower },
+    options.warm ? (byDemand ? options.warm.demand : options.warm.stops) : undefined,
+  );
+  const maxPaths = options.maxPaths ?? 50 * n + 10_000;
+  flow.run(maxPaths);
+  for (let round = 0; round < 8 && !flow.blocked && flow.settle() > 0; round++) flow.run(maxPaths);
+
+  // Dual bound (exact least values over all zones): at most the LP optimum.
+  let dual = lockedCost;
+  for (let t = 0; t < carried.length; t++) dual += supply[carried[t]!]! * flow.leastValue(carried[t]!);
+  for (let j = 0; j < k; j++) {
+    const up = Math.max(flow.price[j]!, 0);
+    const down = Math.max(-flow.price[j]!, 0);
+    if (up > 0) dual -= up * upper[j]!;
+    if (down > 0) dual += down * lower[j]!;
+  }
+  let lp = lockedCost;
+  flow.forEachPiece((i, z, x) => {
+    lp += x * demand[i]! * flow.angle2(i, z);
+  });
+  // Stops the flow does not carry (demand 0 when demand is bounded) cost nothing.
+  const price = flow.price.slice();
+  return {
+    candidates,
+    flow,
+    free,
+    lockedDemand,
+    lockedStops,
+    lockedCost,
+    freeBounds,
+    byDemand,
+    lpObjectiveKm2: lp * R2,
+    lowerBoundKm2: dual * R2,
+    prices: byDemand ? { demand: price, stops: new Float64Array(k) } : { demand: new Float64Array(k), stops: price },
+    blocked: flow.blocked,
+  };
+}
+
+export interface LimitedAssignment {
+  /** Zone of every stop, whole stops. */
+  readonly assignment: Int32Array;
+  /** Sum of demand x (great-circle km)^2 of this assignment. */
+  readonly objectiveKm2: number;
+  /** The LP relaxation's objective and its dual bound, at the same centres. */
+  readonly lpObjectiveKm2: number;
+  readonly lowerBoundKm2: number;
+  /** (objective - lower bound) / objective: how far from optimal this assignment can be at most. */
+  readonly gap: number;
+  readonly feasible: boolean;
+  readonly violations: readonly ZoneViolation[];
+  readonly prices: Prices;
+  /** Shortest paths of the flow; stops the LP split (rounded to one zone each); repair moves. */
+  readonly paths: number;
+  readonly split: number;
+  readonly repaired: number;
+}
+
+/**
+ * The capacity-limited assignment step at fixed centres, in whole stops: the LP relaxation
+ * (solveLimitLp), its split stops rounded to the zone that breaks the bounds least, the breaks
+ * repaired by single moves and two-move chains (src/solve/repair.ts), then improved. Where the
+ * repair cannot mend a bound, the flow is solved once more with that bound tightened by the
+ * breach and the better outcome kept. Whatever still breaks a bound is listed with the amount.
+ * The LP's dual bound is reported, so the gap to the best possible assignment is known.
+ */
+export function assignWithLimits(
+  units: Float64Array,
+  demand: Float64Array,
+  centres: Float64Array,
+  bounds: ZoneBounds,
+  locked: Int32Array | null,
+  options: LimitOptions = {},
+): LimitedAssignment {
+  const lp = solveLimitLp(units, demand, centres, bounds, locked, options);
+  const n = demand.length;
+  const k = centres.length / 3;
+  const { flow, free, freeBounds, candidates: cand, byDemand } = lp;
+  const supply = byDemand ? demand : null;
+  const angle2 = (i: number, j: number): number => flow.angle2(i, j);
+  const demandScale = Math.max(1e-300, free.reduce((s, i) => s + demand[i]!, 0) / k);
+  const stopScale = Math.max(1, free.length / k);
+  const upper = byDemand ? freeBounds.maxDemand : freeBounds.maxStops;
+  const lower = byDemand ? freeBounds.minDemand : freeBounds.minStops;
+
+  const makeWhole = (f: ZoneFlow): { whole: WholeStops; assignment: Int32Array; split: number; repaired: number; breach: number; cost: number; roundLoad: Float64Array } => {
+    const assignment = new Int32Array(n);
+    for (let i = 0; i < n; i++) if (locked && locked[i]! >= 0) assignment[i] = locked[i]!;
+    const split = f.round(assignment);
+    const roundLoad = f.load.slice();
+    // Stops the flow does not carry: their cheapest zone at the prices.
+    for (const i of free) if (supply && !(supply[i]! > 0)) assignment[i] = f.bestZone(i);
+    const whole = new WholeStops(demand, cand, angle2, free, freeBounds, assignment);
+    const repaired = whole.repair(Math.max(100, 2 * k + split * 4));
+    whole.improve(2);
+    let cost = 0;
+    for (const i of free) cost += demand[i]! * angle2(i, assignment[i]!);
+    return { whole, assignment, split, repaired, breach: whole.totalBreach(), cost, roundLoad };
+  };
+  let chosen = makeWhole(flow);
+  if (chosen.breach > 0) {
+    const tol = 1e-9 * (byDemand ? demandScale : stopScale);
+    const adjUpper = Float64Array.from(upper);
+    const adjLower = Float64Array.from(lower);
+    for (let j = 0; j < k; j++) {
+      const l = chosen.roundLoad[j]!;
+      if (l > upper[j]! + tol) adjUpper[j]! -= l - upper[j]!;
+      if (l < lower[j]! - tol) adjLower[j]! += lower[j]! - l;
+    }
+    const carried = Int32Array.from(free.filter((i) => (byDemand ? demand[i]! > 0 : true)));
+    const retry = new ZoneFlow(
+      units,
+      centres,
+      cand,
+      carried,
+      byDemand ? demand : new Float64Array(n).fill(1),
+      byDemand ? new Float64Array(n).fill(1) : demand,
+      { upper: adjUpper, lower: adjLower },
+      flow.price,
+    );
+    const maxPaths = options.maxPaths ?? 50 * n + 10_000;
+    retry.run(maxPaths);
+    for (let round = 0; round < 8 && !retry.blocked && retry.settle() > 0; round++) retry.run(maxPaths);
+    if (!retry.blocked) {
+      const other = makeWhole(retry);
+      if (other.breach < chosen.breach - 1e-12 || (other.breach <= chosen.breach && other.cost < chosen.cost)) chosen = other;
+    }
+  }
+
+  const { assignment, split, repaired, whole } = chosen;
+  const violations: ZoneViolation[] = [];
+  const tol = 1e-9 * demandScale;
+  for (let j = 0; j < k; j++) {
+    const D = whole.loadD[j]! + lp.lockedDemand[j]!;
+    const S = whole.loadS[j]! + lp.lockedStops[j]!;
+    const md = bounds.maxDemand[j]!;
+    const nd = bounds.minDemand[j]!;
+    const ms = bounds.maxStops[j]!;
+    const ns = bounds.minStops[j]!;
+    if (D > md + tol) violations.push({ zone: j, kind: 'over-demand', load: D, bound: md, by: D - md });
+    if (D < nd - tol) violations.push({ zone: j, kind: 'under-demand', load: D, bound: nd, by: nd - D });
+    if (S > ms) violations.push({ zone: j, kind: 'over-stops', load: S, bound: ms, by: S - ms });
+    if (S < ns) violations.push({ zone: j, kind: 'under-stops', load: S, bound: ns, by: ns - S });
+  }
+  const objectiveKm2 = (lp.lockedCost + chosen.cost) * R2;
+  // Within the bounds, objective >= LP optimum >= dual (up to rounding in the last digits).
+  const gap = objectiveKm2 > 0 ? (objectiveKm2 - lp.lowerBoundKm2) / objectiveKm2 : 0;
+  return {
+    assignment,
+    objectiveKm2,
+    lpObjectiveKm2: lp.lpObjectiveKm2,
+    lowerBoundKm2: lp.lowerBoundKm2,
+    gap: violations.length === 0 ? Math.max(0, gap) : gap,
+    feasible: violations.length === 0,
+    violations,
+    prices: lp.prices,
+    paths: flow.augmentations,
+    split,
+    repaired,
+  };
+}

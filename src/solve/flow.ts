@@ -1,0 +1,711 @@
+import { angle2To, type Candidates } from './candidates.js';
+
+/**
+ * Bounds of the flow's commodity (demand, or stops) per zone, for the free stops.
+ */
+export interface FlowBounds {
+  readonly upper: Float64Array;
+  readonly lower: Float64Array;
+}
+
+/**
+ * Min-cost flow for the capacity-limited assignment, by successive shortest paths on the graph of
+ * zones (R. K. Ahuja, T. L. Magnanti and J. B. Orlin, "Network Flows", Prentice Hall 1993,
+ * section 9.7, with node potentials so that Dijkstra applies).
+ *
+ * Each free stop supplies `supply[i]` units (its demand, or 1 when the bounds count stops) that
+ * must reach a zone; a unit of stop i in zone j costs  costFactor[i] x angle^2(i, j). Every zone
+ * sends its units on to a sink T along an arc with bounds [lower_j, upper_j]. A stop's units are
+ * held as pieces in zones (a stop is split only where the LP splits it). Collapsing the stops,
+ * moving a unit of stop i from zone j to zone l is an arc j -> l of cost
+ * costFactor[i] x (angle^2(i, l) - angle^2(i, j)); for each pair of zones the pieces are kept in a
+ * heap by that cost, which does not depend on the potentials, so the cheapest move is at the top.
+ *
+ * Potentials are the zone prices: a unit of stop i goes to the zone of least
+ * costFactor x angle^2 + price, and at the end the prices clear every bound (the LP's duals).
+ * Stops move only between their C nearest zones; a final check against every zone moves any
+ * stop for which a farther zone is cheaper and runs the paths again.
+ */
+export class ZoneFlow {
+  readonly k: number;
+  /** Potentials (prices) of the zones, relative to the sink's. */
+  readonly price: Float64Array;
+  /** Units in each zone, and the flow on each zone's arc to the sink. */
+  readonly load: Float64Array;
+  readonly out: Float64Array;
+  augmentations = 0;
+  moved = 0;
+  /** Set when the bounds cannot all be met (nothing can carry the remaining excess). */
+  blocked = false;
+
+  // Pieces: stop, zone, fraction of the stop, next piece of the same stop, version for heaps.
+  private pieceStop = new Int32Array(0);
+  private pieceZone = new Int32Array(0);
+  private pieceX = new Float64Array(0);
+  private pieceNext = new Int32Array(0);
+  private pieceVersion = new Int32Array(0);
+  private pieceCount = 0;
+  private readonly spare: number[] = [];
+  private readonly first: Int32Array;
+  /** Heaps of moves j -> l, keyed j * k + l. */
+  private readonly heaps = new Map<number, MoveHeap>();
+  /** Outgoing heap keys per zone (l values with a heap j -> l). */
+  private readonly outgoing: Set<number>[];
+  private readonly unitScale: number;
+  /** Per zone: the pieces in it (with each piece's position), for the bulk phase. */
+  private readonly zoneLists: Int32Array[];
+  private readonly zoneSizes: Int32Array;
+  private piecePos = new Int32Array(0);
+  private pMin = 0;
+  private pMinStale = true;
+
+  constructor(
+    private readonly units: Float64Array,
+    private readonly centres: Float64Array,
+    private readonly cand: Candidates,
+    private readonly free: Int32Array,
+    private readonly supply: Float64Array,
+    private readonly costFactor: Float64Array,
+    private readonly bounds: FlowBounds,
+    warm?: Float64Array,
+  ) {
+    const k = centres.length / 3;
+    this.k = k;
+    this.price = warm ? Float64Array.from(warm) : new Float64Array(k);
+    for (let j = 0; j < k; j++) {
+      // A price stands only on a side where a bound exists.
+      if (!Number.isFinite(bounds.upper[j]!)) this.price[j] = Math.min(this.price[j]!, 0);
+      if (!(bounds.lower[j]! > 0)) this.price[j] = Math.max(this.price[j]!, 0);
+    }
+    this.load = new Float64Array(k);
+    this.out = new Float64Array(k);
+    this.first = new Int32Array(supply.length).fill(-1);
+    this.outgoing = Array.from({ length: k }, () => new Set<number>());
+    let total = 0;
+    for (let t = 0; t < free.length; t++) total += supply[free[t]!]!;
+    this.unitScale = Math.max(1e-300, total / Math.max(1, free.length));
+    this.zoneLists = Array.from({ length: k }, () => new Int32Array(16));
+    this.zoneSizes = new Int32Array(k);
+    this.grow(free.length + 64);
+    for (let t = 0; t < free.length; t++) {
+      const i = free[t]!;
+      this.newPiece(i, this.bestZone(i), 1);
+    }
+  }
+
+  private listAdd(j: number, piece: number): void {
+    let list = this.zoneLists[j]!;
+    const size = this.zoneSizes[j]!;
+    if (size === list.length) {
+      const grown = new Int32Array(list.length * 2);
+      grown.set(list);
+      this.zoneLists[j] = grown;
+      list = grown;
+    }
+    list[size] = piece;
+    this.piecePos[piece] = size;
+    this.zoneSizes[j] = size + 1;
+  }
+
+  private listRemove(j: number, piece: number): void {
+    const list = this.zoneLists[j]!;
+    const at = this.piecePos[piece]!;
+    const last = this.zoneSizes[j]! - 1;
+    const other = list[last]!;
+    list[at] = other;
+    this.piecePos[other] = at;
+    this.zoneSizes[j] = last;
+  }
+
+  // ----- pieces -----
+
+  private grow(capacity: number): void {
+    const i32 = (a: Int32Array): Int32Array<ArrayBuffer> => {
+      const b = new Int32Array(capacity);
+      b.set(a);
+      return b;
+    };
+    this.pieceStop = i32(this.pieceStop);
+    this.pieceZone = i32(this.pieceZone);
+    this.pieceNext = i32(this.pieceNext);
+    this.pieceVersion = i32(this.pieceVersion);
+    this.piecePos = i32(this.piecePos);
+    const x = new Float64Array(capacity);
+    x.set(this.pieceX);
+    this.pieceX = x;
+  }
+
+  angle2(i: number, j: number): number {
+    const C = this.cand.c;
+    const base = i * C;
+    for (let s = 0; s < C; s++) if (this.cand.zone[base + s] === j) return this.cand.angle2[base + s]!;
+    return angle2To(this.units, i, this.centres, j);
+  }
+
+  /** Per-unit value of stop i in zone j at the current prices. */
+  value(i: number, j: number): number {
+    return this.costFactor[i]! * this.angle2(i, j) + this.price[j]!;
+  }
+
+  /** Zone of least per-unit value for stop i, over all zones (candidates, then a bound check). */
+  bestZone(i: number): number {
+    const C = this.cand.c;
+    const base = i * C;
+    const f = this.costFactor[i]!;
+    let bz = -1;
+    let bv = Infinity;
+    for (let s = 0; s < C; s++) {
+      const j = this.cand.zone[base + s]!;
+      const v = f * this.cand.angle2[base + s]! + this.price[j]!;
+      if (v < bv) {
+        bv = v;
+        bz = j;
+      }
+    }
+    if (this.pMinStale) {
+      this.pMin = Infinity;
+      for (let j = 0; j < this.k; j++) if (this.price[j]! < this.pMin) this.pMin = this.price[j]!;
+      this.pMinStale = false;
+    }
+    if (!(bv <= f * this.cand.farthest[i]! + this.pMin)) {
+      for (let j = 0; j < this.k; j++) {
+        const v = this.value(i, j);
+        if (v < bv) {
+          bv = v;
+          bz = j;
+        }
+      }
+    }
+    return bz;
+  }
+
+  private newPiece(i: number, j: number, x: number): number {
+    this.load[j]! += x * this.supply[i]!;
+    return this.attachPiece(i, j, x);
+  }
+
+  /** A new piece of stop i in zone j (loads are the caller's business). */
+  private attachPiece(i: number, j: number, x: number): number {
+    let piece = this.spare.pop();
+    if (piece === undefined) {
+      if (this.pieceCount === this.pieceStop.length) this.grow(this.pieceStop.length * 2);
+      piece = this.pieceCount++;
+    }
+    this.pieceStop[piece] = i;
+    this.pieceZone[piece] = j;
+    this.pieceX[piece] = x;
+    this.pieceNext[piece] = this.first[i]!;
+    this.pieceVersion[piece]!++;
+    this.first[i] = piece;
+    this.listAdd(j, piece);
+    this.pushMoves(piece);
+    return piece;
+  }
+
+  /** Enters the moves of a piece out of its zone into the heaps (to each other candidate zone). */
+  private pushMoves(piece: number): void {
+    const i = this.pieceStop[piece]!;
+    const j = this.pieceZone[piece]!;
+    const C = this.cand.c;
+    const f = this.costFactor[i]!;
+    const here = this.angle2(i, j);
+    const version = this.pieceVersion[piece]!;
+    for (let s = 0; s < C; s++) {
+      const l = this.cand.zone[i * C + s]!;
+      if (l === j) continue;
+      const key = j * this.k + l;
+      let heap = this.heaps.get(key);
+      if (!heap) {
+        heap = new MoveHeap();
+        this.heaps.set(key, heap);
+        this.outgoing[j]!.add(l);
+      }
+      heap.push(f * (this.cand.angle2[i * C + s]! - here), piece, version);
+    }
+  }
+
+  private dropPiece(piece: number): void {
+    const i = this.pieceStop[piece]!;
+    this.listRemove(this.pieceZone[piece]!, piece);
+    this.pieceVersion[piece]!++;
+    if (this.first[i] === piece) this.first[i] = this.pieceNext[piece]!;
+    else {
+      let at = this.first[i]!;
+      while (this.pieceNext[at] !== piece) at = this.pieceNext[at]!;
+      this.pieceNext[at] = this.pieceNext[piece]!;
+    }
+    this.spare.push(piece);
+  }
+
+  private pieceIn(i: number, j: number): number {
+    for (let piece = this.first[i]!; piece >= 0; piece = this.pieceNext[piece]!) if (this.pieceZone[piece] === j) return piece;
+    return -1;
+  }
+
+  /** Moves fraction x of a piece to zone `to` (merging with the stop's piece there, if any). */
+  private transfer(piece: number, to: number, x: number): void {
+    const i = this.pieceStop[piece]!;
+    const from = this.pieceZone[piece]!;
+    const whole = x >= this.pieceX[piece]! * (1 - 1e-12);
+    const amount = whole ? this.pieceX[piece]! : x;
+    const s = this.supply[i]!;
+    this.load[from]! -= amount * s;
+    this.load[to]! += amount * s;
+    const there = this.pieceIn(i, to);
+    if (whole) {
+      if (there >= 0) {
+        this.pieceX[there]! += amount;
+        this.dropPiece(piece);
+      } else {
+        this.listRemove(from, piece);
+        this.pieceZone[piece] = to;
+        this.listAdd(to, piece);
+        this.pieceVersion[piece]!++;
+        this.pushMoves(piece);
+      }
+    } else {
+      this.pieceX[piece]! -= amount;
+      if (there >= 0) this.pieceX[there]! += amount;
+      else this.attachPiece(i, to, amount);
+    }
+    this.moved++;
+  }
+
+  /** The cheapest valid move j -> l (piece at the top of the heap), or -1. */
+  private topMove(j: number, l: number): number {
+    const heap = this.heaps.get(j * this.k + l);
+    if (!heap) return -1;
+    while (heap.size > 0) {
+      const piece = heap.topPiece();
+      if (this.pieceVersion[piece] === heap.topVersion() && this.pieceZone[piece] === j && this.pieceX[piece]! > 0) return piece;
+      heap.pop();
+    }
+    return -1;
+  }
+
+  private topKey(j: number, l: number): number {
+    return this.heaps.get(j * this.k + l)!.topKey();
+  }
+
+  /**
+   * When no path leads from the zones with excess to one with room, the zones reached are cut off
+   * by the candidate lists (a town's zones whose stops all list only each other): every stop in a
+   * reached zone gets the 3 nearest unreached zones as further moves. False when none is left.
+   */
+  private expand(reached: Uint8Array): boolean {
+    const k = this.k;
+    let added = false;
+    for (let u = 0; u < k; u++) {
+      if (!reached[u]) continue;
+      const others: { zone: number; chord: number }[] = [];
+      for (let l = 0; l < k; l++) {
+        if (reached[l] || l === u) continue;
+        const dx = this.centres[3 * u]! - this.centres[3 * l]!;
+        const dy = this.centres[3 * u + 1]! - this.centres[3 * l + 1]!;
+        const dz = this.centres[3 * u + 2]! - this.centres[3 * l + 2]!;
+        others.push({ zone: l, chord: dx * dx + dy * dy + dz * dz });
+      }
+      others.sort((a, b) => a.chord - b.chord);
+      const targets = others.slice(0, 3).map((o) => o.zone);
+      if (targets.length === 0) continue;
+      const list = this.zoneLists[u]!.subarray(0, this.zoneSizes[u]!);
+      for (const l of targets) {
+        const key = u * k + l;
+        let heap = this.heaps.get(key);
+        if (!heap) {
+          heap = new MoveHeap();
+          this.heaps.set(key, heap);
+          this.outgoing[u]!.add(l);
+        }
+        for (let t = 0; t < list.length; t++) {
+          const piece = list[t]!;
+          const i = this.pieceStop[piece]!;
+          heap.push(this.costFactor[i]! * (this.angle2(i, l) - this.angle2(i, u)), piece, this.pieceVersion[piece]!);
+        }
+        added = true;
+      }
+    }
+    return added;
+  }
+
+  // ----- successive shortest paths -----
+
+  /**
+   * Runs successive shortest paths until every zone's units sit within its bounds with
+   * complementary slackness, or nothing can carry the excess (`blocked`), or `maxPaths` paths.
+   * Each path: Dijkstra from every node with excess over reduced costs (all >= 0) to the nearest
+   * node with a deficit, potentials raised so that the path is tight, the bottleneck pushed.
+   */
+  run(maxPaths: number): void {
+    const k = this.k;
+    const T = k;
+    const V = k + 1;
+    const { upper, lower } = this.bounds;
+    const tol = 1e-10 * this.unitScale;
+    // Sink arcs: saturate those whose reduced cost is negative (complementary slackness).
+    for (let j = 0; j < k; j++) {
+      const p = this.price[j]!;
+      if (p > 0) this.out[j] = upper[j]!;
+      else if (p < 0) this.out[j] = lower[j]!;
+      else this.out[j] = Math.min(upper[j]!, Math.max(lower[j]!, this.load[j]!));
+    }
+    let totalSupply = 0;
+    for (let t = 0; t < this.free.length; t++) totalSupply += this.supply[this.free[t]!]!;
+    const excess = new Float64Array(V);
+    const recount = (): void => {
+      let sumOut = 0;
+      for (let j = 0; j < k; j++) {
+        excess[j] = this.load[j]! - this.out[j]!;
+        sumOut += this.out[j]!;
+      }
+      excess[T] = sumOut - totalSupply;
+    };
+    recount();
+    const dist = new Float64Array(V);
+    const done = new Uint8Array(V);
+    const prev = new Int32Array(V);
+    const prevPiece = new Int32Array(V);
+    const potential = new Float64Array(V);
+    const queue = new NodeHeap();
+    const settled: number[] = [];
+    let expansions = 0;
+    for (;;) {
+      let anyExcess = false;
+      for (let v = 0; v < V; v++) if (excess[v]! > tol) anyExcess = true;
+      if (!anyExcess || this.augmentations >= maxPaths) return;
+      for (let j = 0; j < k; j++) potential[j] = this.price[j]!;
+      potential[T] = 0;
+      dist.fill(Infinity);
+      done.fill(0);
+      prev.fill(-1);
+      queue.clear();
+      settled.length = 0;
+      for (let v = 0; v < V; v++) {
+        if (excess[v]! > tol) {
+          dist[v] = 0;
+          queue.push(0, v);
+        }
+      }
+      let target = -1;
+      let D = 0;
+      while (queue.size > 0) {
+        const du = queue.topKey();
+        const u = queue.topNode();
+        queue.pop();
+        if (done[u] || du > dist[u]!) continue;
+        done[u] = 1;
+        settled.push(u);
+        if (excess[u]! < -tol) {
+          target = u;
+          D = du;
+          break;
+        }
+        this.forArcs(u, potential, tol, (v, reduced, piece) => {
+          if (done[v]) return;
+          const nd = du + Math.max(0, reduced);
+          if (nd < dist[v]!) {
+            dist[v] = nd;
+            prev[v] = u;
+            prevPiece[v] = piece;
+            queue.push(nd, v);
+          }
+        });
+      }
+      if (target < 0) {
+        if (expansions < k && this.expand(done)) {
+          expansions++;
+          continue;
+        }
+        this.blocked = true;
+        return;
+      }
+      // Potentials: every settled node rises by D - dist, so the path is tight and no reduced
+      // cost turns negative.
+      for (const v of settled) if (dist[v]! < D) potential[v]! += D - dist[v]!;
+      for (let j = 0; j < k; j++) this.price[j] = potential[j]! - potential[T]!;
+      this.pMinStale = true;
+      const nodes: number[] = [target];
+      const pieces: number[] = [];
+      for (let v = target; prev[v]! >= 0; v = prev[v]!) {
+        nodes.unshift(prev[v]!);
+        pieces.unshift(prevPiece[v]!);
+      }
+      this.augment({ nodes, pieces }, excess, tol);
+      if (process.env.FLOW_STATS) flowStats.settled += settled.length;
+      recount();
+    }
+  }
+
+  /**
+   * Visits the residual arcs out of node u (zones: moves to candidate zones and the arc to the
+   * sink; the sink: arcs back to zones), with their reduced costs under `potential`.
+   */
+  private forArcs(u: number, potential: Float64Array, tol: number, f: (v: number, reduced: number, piece: number) => void): void {
+    const k = this.k;
+    const T = k;
+    const { upper, lower } = this.bounds;
+    if (u === T) {
+      // T -> j: less flow on j's sink arc (possible above its lower bound).
+      for (let j = 0; j < k; j++) if (this.out[j]! > lower[j]! + tol) f(j, potential[j]! - potential[T]!, -1);
+      return;
+    }
+    // u -> T: more flow on u's sink arc (possible below its upper bound).
+    if (this.out[u]! < upper[u]! - tol) f(T, potential[T]! - potential[u]!, -1);
+    for (const l of this.outgoing[u]!) {
+      const piece = this.topMove(u, l);
+      if (piece < 0) continue;
+      f(l, this.topKey(u, l) - potential[u]! + potential[l]!, piece);
+    }
+  }
+
+  /** Pushes the bottleneck amount along a path (nodes, and the piece moved on each zone arc). */
+  private augment(path: { nodes: number[]; pieces: number[] }, excess: Float64Array, tol: number): void {
+    const k = this.k;
+    const T = k;
+    const { upper, lower } = this.bounds;
+    const { nodes, pieces } = path;
+    const src = nodes[0]!;
+    const dst = nodes[nodes.length - 1]!;
+    let delta = Math.min(excess[src]!, -excess[dst]!);
+    for (let t = 0; t + 1 < nodes.length; t++) {
+      const u = nodes[t]!;
+      const v = nodes[t + 1]!;
+      if (u === T) delta = Math.min(delta, this.out[v]! - lower[v]!);
+      else if (v === T) delta = Math.min(delta, upper[u]! - this.out[u]!);
+      else {
+        const piece = pieces[t]!;
+        delta = Math.min(delta, this.pieceX[piece]! * this.supply[this.pieceStop[piece]!]!);
+      }
+    }
+    void tol;
+    delta = Math.max(delta, 0);
+    for (let t = 0; t + 1 < nodes.length; t++) {
+      const u = nodes[t]!;
+      const v = nodes[t + 1]!;
+      if (u === T) this.out[v]! -= delta;
+      else if (v === T) this.out[u]! += delta;
+      else {
+        const piece = pieces[t]!;
+        this.transfer(piece, v, delta / this.supply[this.pieceStop[piece]!]!);
+      }
+    }
+    this.augmentations++;
+    if (process.env.FLOW_STATS) {
+      flowStats.paths++;
+      flowStats.amount += delta;
+      flowStats.length += nodes.length - 1;
+    }
+  }
+
+  /**
+   * Moves every piece whose stop has a cheaper zone than its own (beyond the candidates, or after
+   * rounding error). Returns how many pieces moved; run() must follow when any did.
+   */
+  settle(): number {
+    let count = 0;
+    for (let t = 0; t < this.free.length; t++) {
+      const i = this.free[t]!;
+      const bz = this.bestZone(i);
+      const best = this.value(i, bz);
+      const tol = 1e-12 * Math.max(1e-300, Math.abs(best)) + 1e-15;
+      for (let piece = this.first[i]!; piece >= 0; ) {
+        const next = this.pieceNext[piece]!;
+        const z = this.pieceZone[piece]!;
+        if (z !== bz && this.value(i, z) > best + tol) {
+          this.transfer(piece, bz, this.pieceX[piece]!);
+          count++;
+        }
+        piece = next;
+      }
+    }
+    return count;
+  }
+
+  /** Calls f(stop, zone, fraction) for every piece of every free stop. */
+  forEachPiece(f: (stop: number, zone: number, x: number) => void): void {
+    for (let t = 0; t < this.free.length; t++) {
+      const i = this.free[t]!;
+      for (let piece = this.first[i]!; piece >= 0; piece = this.pieceNext[piece]!) f(i, this.pieceZone[piece]!, this.pieceX[piece]!);
+    }
+  }
+
+  /** Least per-unit value of stop i over all zones. */
+  leastValue(i: number): number {
+    return this.value(i, this.bestZone(i));
+  }
+
+  /**
+   * Rounds every split stop to one of the zones holding a piece of it (the one that breaks the
+   * bounds least, then the cheapest) and writes every free stop's zone. Returns how many were split.
+   */
+  round(assignment: Int32Array): number {
+    const { upper, lower } = this.bounds;
+    const scale = this.unitScale * this.free.length / Math.max(1, this.k);
+    let split = 0;
+    for (let t = 0; t < this.free.length; t++) {
+      const i = this.free[t]!;
+      const firstPiece = this.first[i]!;
+      if (this.pieceNext[firstPiece]! < 0) {
+        assignment[i] = this.pieceZone[firstPiece]!;
+        continue;
+      }
+      split++;
+      let bestZone = -1;
+      let bestBreach = Infinity;
+      let bestCost = Infinity;
+      for (let piece = firstPiece; piece >= 0; piece = this.pieceNext[piece]!) {
+        const z = this.pieceZone[piece]!;
+        // Placing the whole stop in z: z takes the rest of it, the other zones lose their pieces.
+        let breach = 0;
+        for (let other = firstPiece; other >= 0; other = this.pieceNext[other]!) {
+          const oz = this.pieceZone[other]!;
+          const x = this.pieceX[other]!;
+          const s = this.supply[i]!;
+          if (oz === z) breach += Math.max(0, this.load[z]! + (1 - x) * s - upper[z]!);
+          else breach += Math.max(0, lower[oz]! - (this.load[oz]! - x * s));
+        }
+        breach /= scale;
+        const cost = this.angle2(i, z);
+        if (breach < bestBreach - 1e-15 || (Math.abs(breach - bestBreach) <= 1e-15 && cost < bestCost)) {
+          bestBreach = breach;
+          bestCost = cost;
+          bestZone = z;
+        }
+      }
+      for (let piece = this.first[i]!; piece >= 0; ) {
+        const next = this.pieceNext[piece]!;
+        if (this.pieceZone[piece] !== bestZone) this.transfer(piece, bestZone, this.pieceX[piece]!);
+        piece = next;
+      }
+      assignment[i] = bestZone;
+    }
+    return split;
+  }
+}
+
+/** A lazy binary min-heap of (distance, node) pairs for Dijkstra. */
+class NodeHeap {
+  private keys: number[] = [];
+  private nodes: number[] = [];
+  get size(): number {
+    return this.keys.length;
+  }
+  clear(): void {
+    this.keys.length = 0;
+    this.nodes.length = 0;
+  }
+  push(key: number, node: number): void {
+    const keys = this.keys;
+    const nodes = this.nodes;
+    let at = keys.length;
+    keys.push(key);
+    nodes.push(node);
+    while (at > 0) {
+      const parent = (at - 1) >> 1;
+      if (keys[parent]! <= key) break;
+      keys[at] = keys[parent]!;
+      nodes[at] = nodes[parent]!;
+      at = parent;
+    }
+    keys[at] = key;
+    nodes[at] = node;
+  }
+  topKey(): number {
+    return this.keys[0]!;
+  }
+  topNode(): number {
+    return this.nodes[0]!;
+  }
+  pop(): void {
+    const keys = this.keys;
+    const nodes = this.nodes;
+    const key = keys.pop()!;
+    const node = nodes.pop()!;
+    const size = keys.length;
+    if (size === 0) return;
+    let at = 0;
+    for (;;) {
+      let child = 2 * at + 1;
+      if (child >= size) break;
+      if (child + 1 < size && keys[child + 1]! < keys[child]!) child++;
+      if (keys[child]! >= key) break;
+      keys[at] = keys[child]!;
+      nodes[at] = nodes[child]!;
+      at = child;
+    }
+    keys[at] = key;
+    nodes[at] = node;
+  }
+}
+
+/** A binary min-heap of (cost, piece, version) triples in typed arrays. */
+class MoveHeap {
+  private keys = new Float64Array(8);
+  private pieces = new Int32Array(8);
+  private versions = new Int32Array(8);
+  size = 0;
+
+  push(key: number, piece: number, version: number): void {
+    if (this.size === this.keys.length) {
+      const n = this.keys.length * 2;
+      const k2 = new Float64Array(n);
+      k2.set(this.keys);
+      this.keys = k2;
+      const p2 = new Int32Array(n);
+      p2.set(this.pieces);
+      this.pieces = p2;
+      const v2 = new Int32Array(n);
+      v2.set(this.versions);
+      this.versions = v2;
+    }
+    let at = this.size++;
+    while (at > 0) {
+      const parent = (at - 1) >> 1;
+      if (this.keys[parent]! <= key) break;
+      this.keys[at] = this.keys[parent]!;
+      this.pieces[at] = this.pieces[parent]!;
+      this.versions[at] = this.versions[parent]!;
+      at = parent;
+    }
+    this.keys[at] = key;
+    this.pieces[at] = piece;
+    this.versions[at] = version;
+  }
+
+  topKey(): number {
+    return this.keys[0]!;
+  }
+
+  topPiece(): number {
+    return this.pieces[0]!;
+  }
+
+  topVersion(): number {
+    return this.versions[0]!;
+  }
+
+  pop(): void {
+    const last = --this.size;
+    if (last <= 0) return;
+    const key = this.keys[last]!;
+    const piece = this.pieces[last]!;
+    const version = this.versions[last]!;
+    let at = 0;
+    for (;;) {
+      let child = 2 * at + 1;
+      if (child >= last) break;
+      if (child + 1 < last && this.keys[child + 1]! < this.keys[child]!) child++;
+      if (this.keys[child]! >= key) break;
+      this.keys[at] = this.keys[child]!;
+      this.pieces[at] = this.pieces[child]!;
+      this.versions[at] = this.versions[child]!;
+      at = child;
+    }
+    this.keys[at] = key;
+    this.pieces[at] = piece;
+    this.versions[at] = version;
+  }
+}
+
+export const flowStats = { paths: 0, amount: 0, length: 0, settled: 0, tiny: 0 };
+

@@ -1,0 +1,344 @@
+import type { Candidates } from './candidates.js';
+
+/** Bounds on the free stops per zone (after locked stops): demand and stop counts. */
+export interface WholeBounds {
+  readonly maxDemand: Float64Array;
+  readonly minDemand: Float64Array;
+  readonly maxStops: Float64Array;
+  readonly minStops: Float64Array;
+}
+
+interface Move {
+  stop: number;
+  from: number;
+  to: number;
+}
+
+/**
+ * Whole-stop assignment under zone bounds: repair of the bounds that rounding broke, and local
+ * improvement, by moves of single stops and chains of two (a stop into a zone that is full, and
+ * another stop out of that zone into one with room). Each repair move is the one that fixes the
+ * most breach per unit of added cost; improvement takes single moves and chains that lower the
+ * objective without breaking any bound. A heuristic: the gap to the LP bound says how good.
+ */
+export class WholeStops {
+  readonly loadD: Float64Array;
+  readonly loadS: Float64Array;
+  private readonly members: Set<number>[];
+  private readonly tolD: number;
+
+  constructor(
+    private readonly demand: Float64Array,
+    private readonly cand: Candidates,
+    private readonly angle2: (i: number, j: number) => number,
+    private readonly free: readonly number[],
+    private readonly bounds: WholeBounds,
+    readonly assignment: Int32Array,
+  ) {
+    const k = bounds.maxDemand.length;
+    this.loadD = new Float64Array(k);
+    this.loadS = new Float64Array(k);
+    this.members = Array.from({ length: k }, () => new Set<number>());
+    let total = 0;
+    for (const i of free) {
+      const a = assignment[i]!;
+      this.loadD[a]! += demand[i]!;
+      this.loadS[a]!++;
+      this.members[a]!.add(i);
+      total += demand[i]!;
+    }
+    this.tolD = 1e-9 * Math.max(1e-300, total / k);
+  }
+
+  private apply(i: number, to: number): void {
+    const from = this.assignment[i]!;
+    this.members[from]!.delete(i);
+    this.members[to]!.add(i);
+    this.loadD[from]! -= this.demand[i]!;
+    this.loadS[from]!--;
+    this.loadD[to]! += this.demand[i]!;
+    this.loadS[to]!++;
+    this.assignment[i] = to;
+  }
+
+  /** Breach of zone j's bounds with its demand and stop count changed by dd and ds (0 = within). */
+  private breach(j: number, dd: number, ds: number): number {
+    const b = this.bounds;
+    const d = this.loadD[j]! + dd;
+    const s = this.loadS[j]! + ds;
+    return (
+      Math.max(0, d - b.maxDemand[j]! - this.tolD) +
+      Math.max(0, b.minDemand[j]! - d - this.tolD) +
+      Math.max(0, s - b.maxStops[j]!) * this.meanDemand() +
+      Math.max(0, b.minStops[j]! - s) * this.meanDemand()
+    );
+  }
+
+  private mean = -1;
+  private meanDemand(): number {
+    if (this.mean < 0) {
+      let t = 0;
+      for (const i of this.free) t += this.demand[i]!;
+      this.mean = this.free.length > 0 && t > 0 ? t / this.free.length : 1;
+    }
+    return this.mean;
+  }
+
+  /** Total breach over all zones. */
+  totalBreach(): number {
+    let t = 0;
+    for (let j = 0; j < this.loadD.length; j++) t += this.breach(j, 0, 0);
+    return t;
+  }
+
+  private cost(i: number, to: number): number {
+    return this.demand[i]! * (this.angle2(i, to) - this.angle2(i, this.assignment[i]!));
+  }
+
+  private readonly tz = new Int32Array(8);
+  private readonly tdd = new Float64Array(8);
+  private readonly tds = new Float64Array(8);
+
+  /** Change in total breach if the moves (at most 4, of distinct stops) were made. */
+  private breachChange(moves: readonly Move[]): number {
+    const { tz, tdd, tds } = this;
+    let used = 0;
+    const touch = (j: number, dd: number, ds: number): void => {
+      for (let t = 0; t < used; t++) {
+        if (tz[t] === j) {
+          tdd[t]! += dd;
+          tds[t]! += ds;
+          return;
+        }
+      }
+      tz[used] = j;
+      tdd[used] = dd;
+      tds[used] = ds;
+      used++;
+    };
+    for (const m of moves) {
+      const w = this.demand[m.stop]!;
+      touch(m.from, -w, -1);
+      touch(m.to, w, 1);
+    }
+    let change = 0;
+    for (let t = 0; t < used; t++) change += this.breach(tz[t]!, tdd[t]!, tds[t]!) - this.breach(tz[t]!, 0, 0);
+    return change;
+  }
+
+  /** Candidate single moves of stop i (to its candidate zones). */
+  private *targets(i: number): Generator<number> {
+    const C = this.cand.c;
+    const from = this.assignment[i]!;
+    for (let s = 0; s < C; s++) {
+      const to = this.cand.zone[i * C + s]!;
+      if (to !== from) yield to;
+    }
+  }
+
+  /**
+   * Repairs broken bounds: repeatedly takes the zone with the largest breach and the single move
+   * or two-move chain touching it that lowers the total breach most per unit of added cost.
+   * Returns the number of moves made.
+   */
+  repair(maxMoves: number): number {
+    const k = this.loadD.length;
+    let made = 0;
+    const hopeless = new Set<number>();
+    while (made < maxMoves) {
+      let worst = -1;
+      let worstBreach = 0;
+      for (let j = 0; j < k; j++) {
+        if (hopeless.has(j)) continue;
+        const b = this.breach(j, 0, 0);
+        if (b > worstBreach) {
+          worstBreach = b;
+          worst = j;
+        }
+      }
+      if (worst < 0) break;
+      const best = this.bestFix(worst);
+      if (!best) {
+        hopeless.add(worst);
+        continue;
+      }
+      for (const m of best as Move[]) this.apply(m.stop, m.to);
+      made += (best as Move[]).length;
+      hopeless.clear();
+      this.outCache.clear();
+      this.inCache.clear();
+      this.neighbourCache.clear();
+    }
+    return made;
+  }
+
+  /** Each stop of zone l with its cheapest move out (to another candidate zone), cheapest first. */
+  private outCache = new Map<number, { stop: number; to: number; cost: number }[]>();
+  private movesOut(l: number): { stop: number; to: number; cost: number }[] {
+    let list = this.outCache.get(l);
+    if (!list) {
+      list = [];
+      for (const m of this.members[l]!) {
+        let bestTo = -1;
+        let bestCost = Infinity;
+        for (const r of this.targets(m)) {
+          const c = this.cost(m, r);
+          if (c < bestCost && this.breach(r, this.demand[m]!, 1) <= this.breach(r, 0, 0)) {
+            bestCost = c;
+            bestTo = r;
+          }
+        }
+        if (bestTo >= 0) list.push({ stop: m, to: bestTo, cost: bestCost });
+      }
+      list.sort((x, y) => x.cost - y.cost);
+      this.outCache.set(l, list);
+    }
+    return list;
+  }
+
+  /** Stops of other zones that have l as a candidate, with the cost of moving into l, cheapest first. */
+  private inCache = new Map<number, { stop: number; from: number; cost: number }[]>();
+  private movesIn(l: number): { stop: number; from: number; cost: number }[] {
+    let list = this.inCache.get(l);
+    if (!list) {
+      list = [];
+      for (const r of this.neighboursOf(l)) {
+        if (this.breach(r, 0, 0) > 0) continue;
+        for (const m of this.members[r]!) {
+          if (!this.hasCandidate(m, l)) continue;
+          if (this.breach(r, -this.demand[m]!, -1) > 0) continue;
+          list.push({ stop: m, from: r, cost: this.cost(m, l) });
+        }
+      }
+      list.sort((x, y) => x.cost - y.cost);
+      this.inCache.set(l, list);
+    }
+    return list;
+  }
+
+  /** The best single move or chain of two that lowers the breach at zone j. */
+  private bestFix(j: number): Move[] | null {
+    const over = this.loadD[j]! > this.bounds.maxDemand[j]! + this.tolD || this.loadS[j]! > this.bounds.maxStops[j]!;
+    let best: Move[] | null = null;
+    let bestScore = Infinity;
+    const consider = (moves: Move[]): void => {
+      const gain = -this.breachChange(moves);
+      if (!(gain > 1e-12)) return;
+      let cost = 0;
+      for (const m of moves) cost += this.cost(m.stop, m.to);
+      const score = cost / gain;
+      if (score < bestScore) {
+        bestScore = score;
+        best = moves.map((m) => ({ ...m }));
+      }
+    };
+    const CHAIN_SCAN = 16;
+    const FIRST_SCAN = 160;
+    if (over) {
+      // The cheapest moves out of j, each to a zone with room or passed on by a chain.
+      const firsts: Move[] = [];
+      const costs: number[] = [];
+      for (const i of this.members[j]!) for (const l of this.targets(i)) {
+        firsts.push({ stop: i, from: j, to: l });
+        costs.push(this.cost(i, l));
+      }
+      const order = firsts.map((_, t) => t).sort((x, y) => costs[x]! - costs[y]!);
+      for (let u = 0; u < order.length && u < FIRST_SCAN; u++) {
+        const first = firsts[order[u]!]!;
+        const w = this.demand[first.stop]!;
+        const l = first.to;
+        if (this.breach(l, w, 1) <= this.breach(l, 0, 0)) {
+          consider([first]);
+          continue;
+        }
+        // l would break a bound: it passes on one of its own stops (the cheapest that fits).
+        const out = this.movesOut(l);
+        for (let t = 0, seen = 0; t < out.length && seen < CHAIN_SCAN; t++) {
+          const o = out[t]!;
+          if (o.stop === first.stop || o.to === j) continue;
+          seen++;
+          consider([first, { stop: o.stop, from: l, to: o.to }]);
+        }
+      }
+    } else {
+      const incomingJ = this.movesIn(j);
+      for (let u = 0; u < incomingJ.length && u < FIRST_SCAN; u++) {
+        const entry = incomingJ[u]!;
+        consider([{ stop: entry.stop, from: entry.from, to: j }]);
+      }
+      // Chains: a neighbour gives a stop and takes one from its own neighbour.
+      const firsts: Move[] = [];
+      const costs: number[] = [];
+      for (const l of this.neighboursOf(j)) {
+        for (const i of this.members[l]!) {
+          if (!this.hasCandidate(i, j)) continue;
+          const w = this.demand[i]!;
+          if (this.breach(l, -w, -1) <= this.breach(l, 0, 0)) continue;
+          firsts.push({ stop: i, from: l, to: j });
+          costs.push(this.cost(i, j));
+        }
+      }
+      const order = firsts.map((_, t) => t).sort((x, y) => costs[x]! - costs[y]!);
+      for (let u = 0; u < order.length && u < FIRST_SCAN; u++) {
+        const first = firsts[order[u]!]!;
+        const incoming = this.movesIn(first.from);
+        for (let t = 0, seen = 0; t < incoming.length && seen < CHAIN_SCAN; t++) {
+          const o = incoming[t]!;
+          if (o.stop === first.stop || o.from === j) continue;
+          seen++;
+          consider([first, { stop: o.stop, from: o.from, to: first.from }]);
+        }
+      }
+    }
+    return best;
+  }
+
+  private hasCandidate(i: number, j: number): boolean {
+    const C = this.cand.c;
+    for (let s = 0; s < C; s++) if (this.cand.zone[i * C + s] === j) return true;
+    return false;
+  }
+
+  private neighbourCache = new Map<number, number[]>();
+  /** Zones that some stop of zone l has among its candidates. */
+  private neighboursOf(l: number): number[] {
+    let list = this.neighbourCache.get(l);
+    if (!list) {
+      const set = new Set<number>();
+      for (const i of this.members[l]!) for (const r of this.targets(i)) set.add(r);
+      list = [...set];
+      this.neighbourCache.set(l, list);
+    }
+    return list;
+  }
+
+  /**
+   * Improvement: single moves and then pair swaps between neighbouring zones that lower the
+   * objective and keep every bound (no breach may grow). Returns the moves made.
+   */
+  improve(passes: number): number {
+    let made = 0;
+    for (let pass = 0; pass < passes; pass++) {
+      let round = 0;
+      for (const i of this.free) {
+        const from = this.assignment[i]!;
+        let bestTo = -1;
+        let bestGain = 1e-15;
+        for (const to of this.targets(i)) {
+          const gain = -this.cost(i, to);
+          if (gain > bestGain && this.breachChange([{ stop: i, from, to }]) <= 0) {
+            bestGain = gain;
+            bestTo = to;
+          }
+        }
+        if (bestTo >= 0) {
+          this.apply(i, bestTo);
+          round++;
+        }
+      }
+      made += round;
+      if (round === 0) break;
+    }
+    return made;
+  }
+}
