@@ -7,7 +7,7 @@ import { readCapacityFile, readDepotsFile, readLocksFile, type DepotSet, type Zo
 import { solveZonesParallel } from '../run/parallel-solve.js';
 import { drive } from '../solve/drive.js';
 import { solveLimitedSteps, type LimitedResult } from '../solve/limited.js';
-import { hasLimits, zonesForCapacity, type LimitSettings } from '../solve/limits.js';
+import { hasLimits, zoneBounds, zonesForCapacity, type LimitSettings } from '../solve/limits.js';
 import { planFromSolve, type Plan } from '../solve/plan.js';
 import { SolveError, type SolveProgress, type SolveResult, type SolveSettings } from '../solve/types.js';
 import { planFigures, type PlanFigures } from '../zones/stats.js';
@@ -50,20 +50,26 @@ interface ZoneSetup {
   readonly names: (string | null)[];
 }
 
-function zoneSetup(stops: StopSet, settings: PlanSettingsInput, k: number, depots: DepotSet | null): ZoneSetup {
-  const f = depots?.ids.length ?? 0;
-  if (f > k) throw new SolveError(`${f} depots in ${depots!.source}, but only ${k} zones: every depot is a zone, so ask for at least ${f}`, 'zones');
+/** Capacity per zone: the uniform one, then the depot file's, then the capacity file's. */
+function zoneCapacities(settings: PlanSettingsInput, k: number, depots: DepotSet | null): number[] {
   const names: ZoneNames = { count: k, depotIds: depots?.ids ?? [] };
-  // Capacity per zone: the uniform one, then the depot file's, then the capacity file's.
   const capacity: number[] = new Array(k).fill(settings.capacity ?? Infinity);
   depots?.capacity.forEach((c, j) => {
-    if (c !== null) capacity[j] = c;
+    if (c !== null && j < k) capacity[j] = c;
   });
   if (settings.capacityFile) {
     readCapacityFile(settings.capacityFile, names).forEach((c, j) => {
       if (c !== null) capacity[j] = c;
     });
   }
+  return capacity;
+}
+
+function zoneSetup(stops: StopSet, settings: PlanSettingsInput, k: number, depots: DepotSet | null): ZoneSetup {
+  const f = depots?.ids.length ?? 0;
+  if (f > k) throw new SolveError(`${f} depots in ${depots!.source}, but only ${k} zone${k === 1 ? '' : 's'}: every depot is a zone, so ask for at least ${f}`, 'zones');
+  const names: ZoneNames = { count: k, depotIds: depots?.ids ?? [] };
+  const capacity = zoneCapacities(settings, k, depots);
   const limits: { -readonly [K in keyof LimitSettings]: LimitSettings[K] } = {};
   if (capacity.some((c) => Number.isFinite(c))) limits.capacity = capacity;
   if (settings.balance !== undefined) limits.balance = settings.balance;
@@ -82,7 +88,16 @@ export async function solveStops(stops: StopSet, settings: PlanSettingsInput, ho
     if (!(settings.capacity !== undefined && settings.capacity > 0)) {
       throw new SolveError("zones 'auto' needs a capacity (--capacity Q): the fewest zones of that capacity that carry the total demand", 'settings');
     }
-    k = Math.max(zonesForCapacity(stops.demand, settings.capacity), depots?.ids.length ?? 0);
+    // The fewest zones whose capacities (the depots' and the capacity file's where given, the
+    // uniform one elsewhere) add up to the total demand.
+    let total = 0;
+    for (let i = 0; i < stops.demand.length; i++) total += stops.demand[i]!;
+    k = Math.max(zonesForCapacity(stops.demand, settings.capacity), depots?.ids.length ?? 0, 1);
+    for (;;) {
+      const sum = zoneCapacities(settings, k, depots).reduce((a, c) => a + c, 0);
+      if (sum >= total * (1 - 1e-12) || k >= stops.demand.length) break;
+      k++;
+    }
   } else k = settings.zones;
   // With 'auto', whole stops may not pack into the LP's number of zones: try a few more.
   for (let extra = 0; ; extra++) {
@@ -100,6 +115,8 @@ async function solveFor(stops: StopSet, settings: PlanSettingsInput, k: number, 
     hooks.onProgress?.({ phase: p.phase, fraction: p.fraction, restart: p.restart, iteration: p.iteration, moved: p.moved });
   const driveHooks = { onProgress: progress, ...(hooks.signal ? { signal: hooks.signal } : {}) };
   const special = !!setup.limits || !!setup.depots || !!setup.locked;
+  // Settings that cannot be met get their answer before any solving.
+  if (setup.limits) zoneBounds(setup.limits, k, stops.demand, setup.locked, (i) => `stop "${stops.ids[i]}"`);
   let result: SolveResult | LimitedResult;
   const plainFirst = !setup.depots && !setup.locked;
   const start = !special || plainFirst
@@ -159,8 +176,8 @@ export function limitsOutcome(plan: Plan): LimitsOutcome | null {
   const l = plan.limits;
   if (!l) return null;
   return {
-    lowerBoundKm2: l.lowerBoundKm2,
-    gap: l.gap,
+    lowerBoundKm2: l.blocked ? null : l.lowerBoundKm2,
+    gap: l.blocked ? null : l.gap,
     feasible: l.feasible,
     breaches: l.violations.map((v) => ({ zone: plan.zoneIds[v.zone]!, kind: v.kind, load: v.load, bound: v.bound, by: v.by })),
     split: l.split,

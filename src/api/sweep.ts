@@ -45,10 +45,20 @@ export async function sweepStopsFile(
   for (let k = range.from; k <= range.to; k += step) ks.push(k);
   for (const [t, k] of ks.entries()) {
     const t0 = performance.now();
-    const solved = await solveStops(stops, { ...settings, zones: k }, {
-      ...(hooks.signal ? { signal: hooks.signal } : {}),
-      onProgress: (p) => hooks.onProgress?.({ ...p, fraction: (t + p.fraction) / ks.length }),
-    });
+    let solved;
+    try {
+      solved = await solveStops(stops, { ...settings, zones: k }, {
+        ...(hooks.signal ? { signal: hooks.signal } : {}),
+        onProgress: (p) => hooks.onProgress?.({ ...p, fraction: (t + p.fraction) / ks.length }),
+      });
+    } catch (e) {
+      // A zone count that cannot carry the limits is a row of the answer, not the end of it.
+      if (!(e instanceof SolveError) || (e.code !== 'infeasible' && e.code !== 'too-few-locations')) throw e;
+      const row: SweepRow = { zones: k, objectiveKm2: Number.NaN, maxMinRatio: Number.NaN, demandCv: Number.NaN, meanKm: Number.NaN, maxKm: Number.NaN, feasible: false, gap: null, ms: performance.now() - t0, note: e.message };
+      rows.push(row);
+      hooks.onRow?.(row);
+      continue;
+    }
     const zones = solved.figures.zones;
     const spread = workloadSpread(zones.map((z) => z.demand));
     let sumWKm = 0;
@@ -66,7 +76,7 @@ export async function sweepStopsFile(
       meanKm: solved.figures.totalDemand > 0 ? sumWKm / solved.figures.totalDemand : 0,
       maxKm,
       feasible: limits ? limits.feasible : null,
-      gap: limits ? limits.gap : null,
+      gap: limits && !limits.blocked ? limits.gap : null,
       ms: performance.now() - t0,
     };
     rows.push(row);

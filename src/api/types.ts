@@ -96,9 +96,12 @@ export interface LimitBreach {
 
 /** How the workload limits came out. */
 export interface LimitsOutcome {
-  /** The LP relaxation's lower bound on the objective at the final centres, and the plan's gap to it. */
-  readonly lowerBoundKm2: number;
-  readonly gap: number;
+  /**
+   * The LP relaxation's lower bound on the objective at the final centres, and the plan's gap to
+   * it; null when even the LP could not meet every bound (then no bound applies).
+   */
+  readonly lowerBoundKm2: number | null;
+  readonly gap: number | null;
   readonly feasible: boolean;
   readonly breaches: readonly LimitBreach[];
   /** Stops the LP split between zones (each rounded to one), repair moves. */
@@ -153,6 +156,8 @@ export interface SweepRow {
   readonly feasible: boolean | null;
   readonly gap: number | null;
   readonly ms: number;
+  /** Why this zone count has no plan (settings it cannot meet), when it has none. */
+  readonly note?: string;
 }
 
 export interface SweepReport {

@@ -62,7 +62,10 @@ export function planText(r: PlanReport): string {
   if (r.limits) {
     const l = r.limits;
     lines.push(
-      `limits: ${l.feasible ? 'every zone bound is met' : `${l.breaches.length} bound${l.breaches.length === 1 ? '' : 's'} NOT met`}; LP lower bound ${l.lowerBoundKm2.toExponential(6)} km², gap ${(l.gap * 100).toFixed(3)}% (${l.split} stop${l.split === 1 ? '' : 's'} split by the LP, rounded)`,
+      `limits: ${l.feasible ? 'every zone bound is met' : `${l.breaches.length} bound${l.breaches.length === 1 ? '' : 's'} NOT met`}; ` +
+        (l.lowerBoundKm2 !== null && l.gap !== null
+          ? `LP lower bound ${l.lowerBoundKm2.toExponential(6)} km², gap ${(l.gap * 100).toFixed(3)}% (${l.split} stop${l.split === 1 ? '' : 's'} split by the LP, rounded)`
+          : 'even with stops split between zones the bounds cannot all be met together, so no lower bound applies'),
     );
     for (const b of l.breaches) {
       const what = b.kind === 'over-demand' ? 'demand over its maximum' : b.kind === 'under-demand' ? 'demand under its minimum' : b.kind === 'over-stops' ? 'stops over their maximum' : 'stops under their minimum';
@@ -81,8 +84,8 @@ export function sweepText(r: SweepReport): string {
       ['zones', 'objective km²', 'max/min demand', 'demand CV', 'mean km', 'max km', 'limits', 'gap %'],
       r.rows.map((row) => [
         String(row.zones),
-        row.objectiveKm2.toExponential(4),
-        Number.isFinite(row.maxMinRatio) ? fixed(row.maxMinRatio, 3) : 'inf',
+        Number.isFinite(row.objectiveKm2) ? row.objectiveKm2.toExponential(4) : 'no plan',
+        Number.isNaN(row.maxMinRatio) ? '-' : Number.isFinite(row.maxMinRatio) ? fixed(row.maxMinRatio, 3) : 'inf',
         fixed(row.demandCv, 4),
         fixed(row.meanKm, 2),
         fixed(row.maxKm, 2),
@@ -90,6 +93,7 @@ export function sweepText(r: SweepReport): string {
         row.gap === null ? '-' : fixed(row.gap * 100, 3),
       ]),
     ),
+    ...r.rows.filter((row) => row.note).map((row) => `K=${row.zones}: ${row.note}`),
     '',
     `note: ${r.distanceNote}`,
   ];

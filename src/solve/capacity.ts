@@ -177,6 +177,8 @@ export interface LimitedAssignment {
   readonly paths: number;
   readonly split: number;
   readonly repaired: number;
+  /** True when even the LP (stops split) could not meet every bound: the lower bound then does not apply. */
+  readonly blocked: boolean;
 }
 
 /**
@@ -280,5 +282,6 @@ export function assignWithLimits(
     paths: flow.augmentations,
     split,
     repaired,
+    blocked: lp.blocked,
   };
 }

@@ -55,6 +55,8 @@ export class ZoneFlow {
   /** Per zone: the pieces in it (with each piece's position), for the bulk phase. */
   private readonly zoneLists: Int32Array[];
   private readonly zoneSizes: Int32Array;
+  private readonly reverseStart: Int32Array;
+  private readonly reverse: Int32Array;
   private piecePos = new Int32Array(0);
   private pMin = 0;
   private pMinStale = true;
@@ -91,6 +93,19 @@ export class ZoneFlow {
       const i = free[t]!;
       this.newPiece(i, this.bestZone(i), 1);
     }
+    // Reverse candidate lists: the free stops that have zone j among their candidates.
+    const C = cand.c;
+    const start = new Int32Array(k + 1);
+    for (let t = 0; t < free.length; t++) for (let s = 0; s < C; s++) start[cand.zone[free[t]! * C + s]! + 1]!++;
+    for (let j = 0; j < k; j++) start[j + 1]! += start[j]!;
+    const reverse = new Int32Array(start[k]!);
+    const fill = start.slice(0, k);
+    for (let t = 0; t < free.length; t++) {
+      const i = free[t]!;
+      for (let s = 0; s < C; s++) reverse[fill[cand.zone[i * C + s]!]!++] = i;
+    }
+    this.reverseStart = start;
+    this.reverse = reverse;
   }
 
   private listAdd(j: number, piece: number): void {
@@ -328,6 +343,121 @@ export class ZoneFlow {
     return added;
   }
 
+  // ----- relaxation: single-zone price steps for the bulk -----
+
+  /**
+   * Moves the bulk of the excess before the exact paths, by single-zone price steps (a
+   * Gauss-Seidel ascent of the dual): a zone above its upper bound raises its price exactly as
+   * far as it takes for just its excess to prefer other zones (the marginal piece split); a zone
+   * below its lower bound lowers its price until just its deficit comes in. Every step keeps
+   * complementary slackness exact, so the shortest paths can take over at any point; this only
+   * saves them work (a path moves about one stop, a step thousands). Stops after `maxSteps`,
+   * or when steps no longer shrink the total excess much.
+   */
+  private relax(maxSteps: number): void {
+    const k = this.k;
+    const { upper, lower } = this.bounds;
+    const tol = 1e-9 * this.unitScale * Math.max(1, this.free.length / k);
+    const breach = (): number => {
+      let t = 0;
+      for (let j = 0; j < k; j++) t += Math.max(0, this.load[j]! - upper[j]!) + Math.max(0, lower[j]! - this.load[j]!);
+      return t;
+    };
+    let lastCheck = breach();
+    const skip = new Uint8Array(k);
+    for (let step = 1; step <= maxSteps; step++) {
+      let worst = -1;
+      let worstAmount = tol;
+      const shed = true;
+      for (let j = 0; j < k; j++) {
+        if (skip[j]) continue;
+        const over = this.load[j]! - upper[j]!;
+        const under = lower[j]! - this.load[j]!;
+        if (over > worstAmount) {
+          worstAmount = over;
+          worst = j;
+        }
+        // Zones below their lower bound are left to the paths: lowering a price could make a
+        // far zone (not among a stop's candidates) cheaper than that stop's own, unseen here.
+        void under;
+      }
+      if (worst < 0) return;
+      if (!this.zoneStep(worst, shed, worstAmount)) skip[worst] = 1;
+      if (step % k === 0) {
+        // Give up on steps that only trade excess back and forth.
+        const now = breach();
+        if (now > 0.9 * lastCheck) return;
+        lastCheck = now;
+        skip.fill(0);
+      }
+    }
+  }
+
+  /** One single-zone step; false when nothing could move. */
+  private zoneStep(j: number, shed: boolean, need: number): boolean {
+    const C = this.cand.c;
+    const pieces: number[] = [];
+    const delta: number[] = [];
+    const amount: number[] = [];
+    const target: number[] = [];
+    if (shed) {
+      const list = this.zoneLists[j]!.slice(0, this.zoneSizes[j]!);
+      for (let u = 0; u < list.length; u++) {
+        const piece = list[u]!;
+        const i = this.pieceStop[piece]!;
+        const f = this.costFactor[i]!;
+        let bz = -1;
+        let bv = Infinity;
+        for (let s = 0; s < C; s++) {
+          const l = this.cand.zone[i * C + s]!;
+          if (l === j) continue;
+          const v = f * this.cand.angle2[i * C + s]! + this.price[l]!;
+          if (v < bv) {
+            bv = v;
+            bz = l;
+          }
+        }
+        if (bz < 0) continue;
+        pieces.push(piece);
+        delta.push(Math.max(0, bv - this.value(i, j)));
+        amount.push(this.pieceX[piece]! * this.supply[i]!);
+        target.push(bz);
+      }
+    } else {
+      for (let t = this.reverseStart[j]!; t < this.reverseStart[j + 1]!; t++) {
+        const i = this.reverse[t]!;
+        const there = this.value(i, j);
+        for (let piece = this.first[i]!; piece >= 0; piece = this.pieceNext[piece]!) {
+          const from = this.pieceZone[piece]!;
+          if (from === j) continue;
+          pieces.push(piece);
+          delta.push(Math.max(0, there - this.value(i, from)));
+          amount.push(this.pieceX[piece]! * this.supply[i]!);
+          target.push(j);
+        }
+      }
+    }
+    if (pieces.length === 0) return false;
+    let total = 0;
+    for (const a of amount) total += a;
+    const idx = Int32Array.from(pieces.keys());
+    const cut = total > need ? selectByWeight(idx, delta, amount, need) : idx.length - 1;
+    let change = 0;
+    for (let u = 0; u <= cut; u++) change = Math.max(change, delta[idx[u]!]!);
+    this.price[j] = this.price[j]! + (shed ? change : -change);
+    this.pMinStale = true;
+    let taken = 0;
+    for (let u = 0; u <= cut; u++) {
+      const at = idx[u]!;
+      const take = Math.min(amount[at]!, need - taken);
+      if (!(take > 0)) break;
+      const piece = pieces[at]!;
+      this.transfer(piece, target[at]!, take / this.supply[this.pieceStop[piece]!]!);
+      taken += take;
+    }
+    return taken > 0;
+  }
+
   // ----- successive shortest paths -----
 
   /**
@@ -342,6 +472,7 @@ export class ZoneFlow {
     const V = k + 1;
     const { upper, lower } = this.bounds;
     const tol = 1e-10 * this.unitScale;
+    this.relax(20 * k);
     // Sink arcs: saturate those whose reduced cost is negative (complementary slackness).
     for (let j = 0; j < k; j++) {
       const p = this.price[j]!;
@@ -371,8 +502,13 @@ export class ZoneFlow {
     let expansions = 0;
     for (;;) {
       let anyExcess = false;
-      for (let v = 0; v < V; v++) if (excess[v]! > tol) anyExcess = true;
-      if (!anyExcess || this.augmentations >= maxPaths) return;
+      let anyDeficit = false;
+      for (let v = 0; v < V; v++) {
+        if (excess[v]! > tol) anyExcess = true;
+        if (excess[v]! < -tol) anyDeficit = true;
+      }
+      // Excess with no deficit left anywhere is rounding in the last digits: done.
+      if (!anyExcess || !anyDeficit || this.augmentations >= maxPaths) return;
       for (let j = 0; j < k; j++) potential[j] = this.price[j]!;
       potential[T] = 0;
       dist.fill(Infinity);
@@ -415,6 +551,21 @@ export class ZoneFlow {
         if (expansions < k && this.expand(done)) {
           expansions++;
           continue;
+        }
+        if (process.env.FLOW_DEBUG) {
+          let src = 0;
+          let snk = 0;
+          let sa = 0;
+          for (let v = 0; v < V; v++) {
+            if (excess[v]! > tol) src++;
+            if (excess[v]! < -tol) {
+              snk++;
+              sa += excess[v]!;
+            }
+          }
+          let reached = 0;
+          for (let v = 0; v < V; v++) reached += done[v]!;
+          console.log('blocked: sources', src, 'sinks', snk, sa, 'reached', reached, 'expansions', expansions, 'T excess', excess[T]);
         }
         this.blocked = true;
         return;
@@ -556,17 +707,27 @@ export class ZoneFlow {
       for (let piece = firstPiece; piece >= 0; piece = this.pieceNext[piece]!) {
         const z = this.pieceZone[piece]!;
         // Placing the whole stop in z: z takes the rest of it, the other zones lose their pieces.
+        // Each unit a bound is broken by is priced at that zone's LP price (what a unit of its
+        // bound is worth), so the choice weighs cost against the repair it will need.
         let breach = 0;
+        let breachCost = 0;
+        const s = this.supply[i]!;
         for (let other = firstPiece; other >= 0; other = this.pieceNext[other]!) {
           const oz = this.pieceZone[other]!;
           const x = this.pieceX[other]!;
-          const s = this.supply[i]!;
-          if (oz === z) breach += Math.max(0, this.load[z]! + (1 - x) * s - upper[z]!);
-          else breach += Math.max(0, lower[oz]! - (this.load[oz]! - x * s));
+          if (oz === z) {
+            const b = Math.max(0, this.load[z]! + (1 - x) * s - upper[z]!);
+            breach += b;
+            breachCost += b * Math.abs(this.price[z]!);
+          } else {
+            const b = Math.max(0, lower[oz]! - (this.load[oz]! - x * s));
+            breach += b;
+            breachCost += b * Math.abs(this.price[oz]!);
+          }
         }
         breach /= scale;
-        const cost = this.angle2(i, z);
-        if (breach < bestBreach - 1e-15 || (Math.abs(breach - bestBreach) <= 1e-15 && cost < bestCost)) {
+        const cost = s * this.costFactor[i]! * this.angle2(i, z) + breachCost;
+        if (cost < bestCost || (cost === bestCost && breach < bestBreach)) {
           bestBreach = breach;
           bestCost = cost;
           bestZone = z;
@@ -709,3 +870,55 @@ class MoveHeap {
 
 export const flowStats = { paths: 0, amount: 0, length: 0, settled: 0, tiny: 0 };
 
+
+/**
+ * Reorders idx so that the entries with the smallest key come first, and returns the position
+ * of the entry at which the running total of weight reaches target (the last one if never);
+ * that entry has the largest key of idx[0..position]. Expected linear time: quickselect
+ * (C. A. R. Hoare's FIND) on a weighted rank, ties by entry index.
+ */
+export function selectByWeight(idx: Int32Array, key: readonly number[], weight: readonly number[], target: number): number {
+  const less = (a: number, b: number): boolean => key[a]! < key[b]! || (key[a] === key[b] && a < b);
+  let lo = 0;
+  let hi = idx.length - 1;
+  let before = 0;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    const a = idx[lo]!;
+    const b = idx[mid]!;
+    const c = idx[hi]!;
+    const pivot = less(a, b) ? (less(b, c) ? b : less(a, c) ? c : a) : less(a, c) ? a : less(b, c) ? c : b;
+    const pivotAt = idx.indexOf(pivot, lo);
+    idx[pivotAt] = idx[hi]!;
+    idx[hi] = pivot;
+    let store = lo;
+    let sum = 0;
+    for (let t = lo; t < hi; t++) {
+      const e = idx[t]!;
+      if (less(e, pivot)) {
+        idx[t] = idx[store]!;
+        idx[store] = e;
+        sum += weight[e]!;
+        store++;
+      }
+    }
+    idx[hi] = idx[store]!;
+    idx[store] = pivot;
+    if (before + sum >= target) hi = store - 1;
+    else if (before + sum + weight[pivot]! >= target) return maxToEnd(idx, store, less);
+    else {
+      before += sum + weight[pivot]!;
+      lo = store + 1;
+    }
+  }
+  return maxToEnd(idx, Math.max(0, Math.min(lo, idx.length - 1)), less);
+}
+
+function maxToEnd(idx: Int32Array, end: number, less: (a: number, b: number) => boolean): number {
+  let max = end;
+  for (let t = 0; t < end; t++) if (less(idx[max]!, idx[t]!)) max = t;
+  const e = idx[max]!;
+  idx[max] = idx[end]!;
+  idx[end] = e;
+  return end;
+}

@@ -31,6 +31,8 @@ export interface LimitsReport {
   /** Stops the LP split between two zones, rounded to one; repair moves. */
   readonly split: number;
   readonly repaired: number;
+  /** True when even the LP could not meet every bound (the lower bound and gap then do not apply). */
+  readonly blocked: boolean;
   readonly notes: readonly LimitNote[];
 }
 
@@ -198,6 +200,7 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
           violations: final.violations,
           split: final.split,
           repaired: final.repaired,
+          blocked: final.blocked,
           notes,
         }
       : null,

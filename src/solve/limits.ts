@@ -100,11 +100,14 @@ export function zoneBounds(
     if (minStops[j]! > maxStops[j]!) throw new SolveError(`zone ${j + 1} must have at least ${minStops[j]} stops but at most ${maxStops[j]}`, 'infeasible');
   }
   if (total > capTotal * (1 + 1e-12)) {
-    const uniform = typeof limits.capacity === 'number' ? limits.capacity : null;
-    const need = uniform && uniform > 0 ? Math.ceil(total / uniform - 1e-9) : null;
+    // The fewest zones that could carry it: at the uniform capacity, or at the largest one.
+    const caps = Array.from(maxDemand);
+    const uniform = caps.every((c) => c === caps[0]) && Number.isFinite(caps[0]!) && caps[0]! > 0 ? caps[0]! : null;
+    const largestCap = Math.max(...caps.filter((c) => Number.isFinite(c)));
+    const need = uniform ? Math.ceil(total / uniform - 1e-9) : largestCap > 0 ? Math.ceil(total / largestCap - 1e-9) : null;
     throw new SolveError(
       `total demand ${fmt(total)} is more than the ${k} zones can carry together (${fmt(capTotal)})` +
-        (need ? `: at capacity ${fmt(uniform!)} at least ${need} zones are needed` : ': raise capacities or add zones'),
+        (need && uniform ? `: at capacity ${fmt(uniform)} at least ${need} zones are needed` : need ? `: even at the largest capacity (${fmt(largestCap)}) at least ${need} zones are needed` : ': raise capacities or add zones'),
       'infeasible',
     );
   }
@@ -138,6 +141,53 @@ export function zoneBounds(
       }
       if (lockedStops[j]! > maxStops[j]!) {
         throw new SolveError(`${lockedStops[j]} stops are locked to zone ${j + 1}, more than its ${maxStops[j]} allowed`, 'infeasible');
+      }
+    }
+  }
+  // What the free stops must supply to bring every zone to its minimum, against what they have.
+  {
+    const lockedDemand = new Float64Array(k);
+    const lockedStops = new Float64Array(k);
+    let freeDemand = 0;
+    const freeDemands: number[] = [];
+    for (let i = 0; i < n; i++) {
+      const z = locked ? locked[i]! : -1;
+      if (z >= 0) {
+        lockedDemand[z]! += demand[i]!;
+        lockedStops[z]!++;
+      } else {
+        freeDemand += demand[i]!;
+        freeDemands.push(demand[i]!);
+      }
+    }
+    let needed = 0;
+    let neededStops = 0;
+    for (let j = 0; j < k; j++) {
+      needed += Math.max(0, minDemand[j]! - lockedDemand[j]!);
+      neededStops += Math.max(0, minStops[j]! - lockedStops[j]!);
+    }
+    if (needed > freeDemand * (1 + 1e-12) + 1e-9) {
+      throw new SolveError(
+        `the zones need ${fmt(needed)} more demand to reach their minimums than their locked stops give, but the stops that are not locked carry only ${fmt(freeDemand)}`,
+        'infeasible',
+      );
+    }
+    if (neededStops > freeDemands.length) {
+      throw new SolveError(`the zones need ${neededStops} more stops to reach their minimum stop counts, but only ${freeDemands.length} stops are not locked`, 'infeasible');
+    }
+    // A zone's minimum stop count, filled with the smallest stops there are, must fit its capacity.
+    freeDemands.sort((a, b) => a - b);
+    const prefix = new Float64Array(freeDemands.length + 1);
+    for (let t = 0; t < freeDemands.length; t++) prefix[t + 1] = prefix[t]! + freeDemands[t]!;
+    for (let j = 0; j < k; j++) {
+      const more = Math.max(0, Math.ceil(minStops[j]! - lockedStops[j]!));
+      if (more === 0 || !Number.isFinite(maxDemand[j]!)) continue;
+      const least = lockedDemand[j]! + prefix[Math.min(more, freeDemands.length)]!;
+      if (least > maxDemand[j]! * (1 + 1e-12) + 1e-9) {
+        throw new SolveError(
+          `zone ${j + 1} must have at least ${minStops[j]} stops, but even the smallest ones carry ${fmt(least)}, over its capacity ${fmt(maxDemand[j]!)}`,
+          'infeasible',
+        );
       }
     }
   }

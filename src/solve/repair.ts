@@ -16,10 +16,10 @@ interface Move {
 
 /**
  * Whole-stop assignment under zone bounds: repair of the bounds that rounding broke, and local
- * improvement, by moves of single stops and chains of two (a stop into a zone that is full, and
- * another stop out of that zone into one with room). Each repair move is the one that fixes the
- * most breach per unit of added cost; improvement takes single moves and chains that lower the
- * objective without breaking any bound. A heuristic: the gap to the LP bound says how good.
+ * improvement. Repair moves single stops or chains of two (a stop into a zone that is full, and
+ * another stop out of that zone into one with room), each time the move that fixes the most
+ * breach per unit of added cost; improvement takes single moves that lower the objective
+ * without breaking any bound. A heuristic: the gap to the LP bound says how good.
  */
 export class WholeStops {
   readonly loadD: Float64Array;
@@ -247,10 +247,9 @@ export class WholeStops {
         const first = firsts[order[u]!]!;
         const w = this.demand[first.stop]!;
         const l = first.to;
-        if (this.breach(l, w, 1) <= this.breach(l, 0, 0)) {
-          consider([first]);
-          continue;
-        }
+        // The single move counts when it lowers the total breach, even if l then breaks a little.
+        consider([first]);
+        if (this.breach(l, w, 1) <= this.breach(l, 0, 0)) continue;
         // l would break a bound: it passes on one of its own stops (the cheapest that fits).
         const out = this.movesOut(l);
         for (let t = 0, seen = 0; t < out.length && seen < CHAIN_SCAN; t++) {
@@ -313,8 +312,8 @@ export class WholeStops {
   }
 
   /**
-   * Improvement: single moves and then pair swaps between neighbouring zones that lower the
-   * objective and keep every bound (no breach may grow). Returns the moves made.
+   * Improvement: single moves that lower the objective and keep every bound (no breach may
+   * grow). Returns the moves made.
    */
   improve(passes: number): number {
     let made = 0;
