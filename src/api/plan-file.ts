@@ -1,7 +1,11 @@
 import { readStopsFile } from '../io/read.js';
 import type { StopSet } from '../io/stopset.js';
 import { writeFileAtomic } from '../io/atomic.js';
-import { planGeoJsonChunks, DISTANCE_NOTE } from '../io/plan-geojson.js';
+import path from 'node:path';
+import type { MultiPolygon, Polygon } from 'geojson';
+import { planGeoJsonChunks, layerGeoJsonChunks, DISTANCE_NOTE, type PlanLayers } from '../io/plan-geojson.js';
+import { zoneBoundaries, type Boundaries } from '../zones/boundaries.js';
+import { planStatistics } from '../zones/report.js';
 import { assignmentsCsvChunks } from '../io/assignments-csv.js';
 import { readCapacityFile, readDepotsFile, readLocksFile, type DepotSet, type ZoneNames } from '../io/zone-files.js';
 import { solveZonesParallel } from '../run/parallel-solve.js';
@@ -186,10 +190,64 @@ export function limitsOutcome(plan: Plan): LimitsOutcome | null {
   };
 }
 
-/** Writes the plan GeoJSON and/or assignments CSV, each all or nothing. */
-export function writePlanFiles(solved: SolvedPlan, out: { geojson?: string; assignments?: string }): void {
-  if (out.geojson) writeFileAtomic(out.geojson, planGeoJsonChunks(solved.stops, solved.plan, solved.figures));
+/** How zone boundaries are drawn for output. */
+export interface BoundarySettings {
+  /** Draw them at all (default true). */
+  readonly boundaries?: boolean;
+  readonly marginKm?: number;
+  readonly serviceArea?: Polygon | MultiPolygon;
+}
+
+/**
+ * The plan with its statistics and zone boundaries, for writing or showing. Boundaries that
+ * cannot be drawn (stops over more than a hemisphere) are left out with a note.
+ */
+export function planLayers(solved: SolvedPlan, settings: BoundarySettings = {}): PlanLayers & { notes: string[] } {
+  const { stops, plan } = solved;
+  const notes: string[] = [];
+  let boundaries: Boundaries | null = null;
+  if (settings.boundaries !== false) {
+    try {
+      boundaries = zoneBoundaries(stops.units, plan.assignment, plan.zoneIds.length, {
+        ...(settings.marginKm !== undefined ? { marginKm: settings.marginKm } : {}),
+        ...(settings.serviceArea ? { serviceArea: settings.serviceArea } : {}),
+      });
+    } catch (e) {
+      if (!(e instanceof RangeError)) throw e;
+      notes.push(`zone boundaries not drawn: ${e.message}`);
+    }
+  }
+  const stats = planStatistics(stops.units, stops.demand, stops.lonLat, plan.centres, plan.assignment, boundaries, plan.limits?.bounds.maxDemand ?? null);
+  if (boundaries && boundaries.outside.length > 0) {
+    notes.push(`${boundaries.outside.length} stop${boundaries.outside.length === 1 ? ' lies' : 's lie'} in another zone's territory (locks, capacity or small detached parts); they are marked outsideZone in the stops`);
+  }
+  if (boundaries && boundaries.beyondArea.length > 0) notes.push(`${boundaries.beyondArea.length} stops lie outside the service area`);
+  return { stops, plan, stats, boundaries, notes };
+}
+
+/** Writes the plan GeoJSON and/or assignments CSV, each all or nothing. Returns notes on the boundaries. */
+export function writePlanFiles(solved: SolvedPlan, out: { geojson?: string; assignments?: string }, settings: BoundarySettings = {}): string[] {
   if (out.assignments) writeFileAtomic(out.assignments, assignmentsCsvChunks(solved.stops, solved.plan, solved.figures));
+  if (!out.geojson) return [];
+  const layers = planLayers(solved, settings);
+  writeFileAtomic(out.geojson, planGeoJsonChunks(layers));
+  return layers.notes;
+}
+
+/** Writes the separate layers (zones, centres, stops GeoJSON, assignments CSV) into a folder. */
+export function writePlanLayers(solved: SolvedPlan, dir: string, settings: BoundarySettings = {}): { files: string[]; notes: string[] } {
+  const layers = planLayers(solved, settings);
+  const files: string[] = [];
+  for (const layer of ['zones', 'centres', 'stops'] as const) {
+    if (layer === 'zones' && !layers.boundaries) continue;
+    const file = path.join(dir, `${layer}.geojson`);
+    writeFileAtomic(file, layerGeoJsonChunks(layers, layer));
+    files.push(file);
+  }
+  const csv = path.join(dir, 'assignments.csv');
+  writeFileAtomic(csv, assignmentsCsvChunks(solved.stops, solved.plan, solved.figures));
+  files.push(csv);
+  return { files, notes: layers.notes };
 }
 
 /** The main job: read stops, plan K zones, write the plan files, report. */
@@ -199,6 +257,7 @@ export async function planStopsFile(
   settings: PlanSettingsInput,
   out: { geojson?: string; assignments?: string } = {},
   hooks: RunHooks = {},
+  boundarySettings: BoundarySettings = {},
 ): Promise<PlanReport> {
   const t0 = performance.now();
   hooks.onProgress?.({ phase: 'read', fraction: 0 });
@@ -207,9 +266,9 @@ export async function planStopsFile(
   const solved = await solveStops(stops, settings, hooks);
   const t2 = performance.now();
   hooks.onProgress?.({ phase: 'write', fraction: 1 });
-  writePlanFiles(solved, out);
+  const notes = writePlanFiles(solved, out, boundarySettings);
   const t3 = performance.now();
-  return planReport(solved, { readMs: t1 - t0, solveMs: t2 - t1, writeMs: t3 - t2 }, out);
+  return { ...planReport(solved, { readMs: t1 - t0, solveMs: t2 - t1, writeMs: t3 - t2 }, out), notes };
 }
 
 export function planReport(solved: SolvedPlan, timings: PlanReport['timings'], out: { geojson?: string; assignments?: string } = {}): PlanReport {
@@ -234,6 +293,7 @@ export function planReport(solved: SolvedPlan, timings: PlanReport['timings'], o
     distanceShare: result.naiveDistanceEvaluations > 0 ? result.distanceEvaluations / result.naiveDistanceEvaluations : 0,
     files: { ...(out.geojson ? { geojson: out.geojson } : {}), ...(out.assignments ? { assignments: out.assignments } : {}) },
     timings,
+    notes: [],
     distanceNote: DISTANCE_NOTE,
   };
 }

@@ -1,31 +1,8 @@
 import type { StopSet } from '../io/stopset.js';
 import type { CheckReport, InputProblem } from './types.js';
+import { lonLatBox } from '../geo/bbox.js';
 
-/** Bounding box of positions; across the antimeridian when that gives the narrower box. */
-export function lonLatBox(lonLat: Float64Array): [number, number, number, number] {
-  const n = lonLat.length / 2;
-  let south = Infinity;
-  let north = -Infinity;
-  let west = Infinity;
-  let east = -Infinity;
-  let westShifted = Infinity;
-  let eastShifted = -Infinity;
-  for (let i = 0; i < n; i++) {
-    const lon = lonLat[2 * i]!;
-    const lat = lonLat[2 * i + 1]!;
-    if (lat < south) south = lat;
-    if (lat > north) north = lat;
-    if (lon < west) west = lon;
-    if (lon > east) east = lon;
-    const shifted = lon < 0 ? lon + 360 : lon;
-    if (shifted < westShifted) westShifted = shifted;
-    if (shifted > eastShifted) eastShifted = shifted;
-  }
-  if (eastShifted - westShifted < east - west) {
-    return [westShifted > 180 ? westShifted - 360 : westShifted, south, eastShifted > 180 ? eastShifted - 360 : eastShifted, north];
-  }
-  return [west, south, east, north];
-}
+export { lonLatBox };
 
 export function checkReport(stops: StopSet): CheckReport {
   let total = 0;

@@ -131,6 +131,8 @@ export interface PlanReport {
   readonly distanceShare: number;
   readonly files: { readonly geojson?: string; readonly assignments?: string };
   readonly timings: { readonly readMs: number; readonly solveMs: number; readonly writeMs: number };
+  /** Notes on the output (boundaries not drawn, stops outside their zone's territory, ...). */
+  readonly notes: readonly string[];
   readonly distanceNote: string;
 }
 

@@ -2,6 +2,7 @@ import { Command, CommanderError, InvalidArgumentError, Option } from 'commander
 import { checkStopsFile, planStopsFile } from '../api/plan-file.js';
 import { sweepStopsFile } from '../api/sweep.js';
 import { writeFileAtomic } from '../io/atomic.js';
+import { readServiceAreaFile } from '../io/zone-files.js';
 import type { StopFileOptions, PlanSettingsInput } from '../api/types.js';
 import { ImportError, formatProblem } from '../io/problems.js';
 import { WriteError } from '../io/atomic.js';
@@ -168,7 +169,10 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
     .option('-o, --out <file>', 'write the plan as GeoJSON (RFC 7946): stops and zone centres')
     .option('--assignments <file>', 'write stop assignments as CSV: stop_id, zone, km_to_centre, demand')
     .option('--json', 'print the plan report as JSON on stdout')
-    .option('--quiet', 'no progress line on stderr');
+    .option('--quiet', 'no progress line on stderr')
+    .option('--margin-km <km>', 'zone polygons cover the hull of the stops plus this margin (default 2)', positiveNumber('margin-km'))
+    .option('--service-area <file>', 'GeoJSON Polygon/MultiPolygon the zone polygons partition (instead of the hull plus margin)')
+    .option('--no-boundaries', 'write no zone polygons');
   addLimitOptions(planCommand).action(async (input: string, o: Record<string, unknown>) => {
       const settings: { -readonly [K in keyof PlanSettingsInput]: PlanSettingsInput[K] } = { zones: o.zones as number | 'auto', ...limitSettings(o) };
       if (o.seed !== undefined) settings.seed = o.seed as number;
@@ -195,8 +199,14 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
             io.err(`\r[${'#'.repeat(filled)}${'.'.repeat(width - filled)}] ${String(Math.round(p.fraction * 100)).padStart(3)}% ${p.phase}   `);
           },
         },
+        {
+          ...(o.boundaries === false ? { boundaries: false } : {}),
+          ...(o.marginKm !== undefined ? { marginKm: o.marginKm as number } : {}),
+          ...(typeof o.serviceArea === 'string' ? { serviceArea: readServiceAreaFile(o.serviceArea) } : {}),
+        },
       );
       if (showProgress) io.err('\r\x1b[K');
+      for (const note of report.notes) io.err(`note: ${note}\n`);
       for (const w of report.input.warnings) io.err(`${problemLine(w)}\n`);
       if (!report.converged) io.err(`warning: the plan did not converge within the iteration cap; raise --max-iterations for a settled plan\n`);
       for (const note of report.limits?.notes ?? []) io.err(`note: ${note}\n`);

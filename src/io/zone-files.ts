@@ -1,5 +1,7 @@
 import { readFileSync } from 'node:fs';
 import Papa from 'papaparse';
+import * as GJV from 'geojson-validation';
+import type { MultiPolygon, Polygon, Position } from 'geojson';
 import { decodeText } from './decode.js';
 import { readNumber } from './numbers.js';
 import { ProblemLog, fileError, showValue } from './problems.js';
@@ -205,4 +207,52 @@ export function readCapacityFile(file: string, names: ZoneNames): (number | null
   }
   log.throwIfErrors();
   return out;
+}
+
+/**
+ * Reads a service area: a GeoJSON Polygon or MultiPolygon (bare, as a Feature, or every polygon
+ * feature of a FeatureCollection together), [longitude, latitude] per RFC 7946.
+ */
+export function readServiceAreaFile(file: string): Polygon | MultiPolygon {
+  const text = readText(file).replace(/^\uFEFF/, '');
+  let doc: unknown;
+  try {
+    doc = JSON.parse(text);
+  } catch (e) {
+    throw fileError(file, 'invalid-json', `the file is not valid JSON: ${e instanceof Error ? e.message : String(e)}`);
+  }
+  const polys: Position[][][] = [];
+  const log = new ProblemLog(file);
+  const take = (g: unknown, feature?: number): void => {
+    const where = feature === undefined ? {} : { feature };
+    if (!g || typeof g !== 'object') {
+      log.error({ code: 'not-polygon', ...where, field: 'geometry', message: 'a service area needs a Polygon or MultiPolygon geometry' });
+      return;
+    }
+    const geom = g as { type?: unknown; coordinates?: unknown };
+    const trace = geom.type === 'Polygon' ? GJV.isPolygon(geom, true) : geom.type === 'MultiPolygon' ? GJV.isMultiPolygon(geom, true) : ['not a Polygon or MultiPolygon'];
+    if (Array.isArray(trace) && trace.length > 0) {
+      log.error({ code: 'not-polygon', ...where, field: 'geometry', value: showValue(geom.type ?? null), message: `a service area needs a valid Polygon or MultiPolygon: ${trace.join('; ')}` });
+      return;
+    }
+    const list = geom.type === 'Polygon' ? [geom.coordinates as Position[][]] : (geom.coordinates as Position[][][]);
+    for (const rings of list) {
+      for (const ring of rings) {
+        for (const p of ring) {
+          if (!(Math.abs(p[0]!) <= 180 && Math.abs(p[1]!) <= 90)) {
+            log.error({ code: 'bad-coordinate', ...where, field: 'geometry.coordinates', value: showValue(p), message: 'positions must be [longitude -180..180, latitude -90..90]' });
+            return;
+          }
+        }
+      }
+      polys.push(rings);
+    }
+  };
+  const d = doc as { type?: unknown; features?: unknown[]; geometry?: unknown };
+  if (d?.type === 'FeatureCollection' && Array.isArray(d.features)) d.features.forEach((f, t) => take((f as { geometry?: unknown })?.geometry, t));
+  else if (d?.type === 'Feature') take(d.geometry);
+  else take(doc);
+  if (polys.length === 0 && log.ok) log.error({ code: 'not-polygon', message: 'the file holds no polygon' });
+  log.throwIfErrors();
+  return polys.length === 1 ? { type: 'Polygon', coordinates: polys[0]! } : { type: 'MultiPolygon', coordinates: polys };
 }

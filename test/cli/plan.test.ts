@@ -53,9 +53,12 @@ describe('zoneplan plan on the demo', () => {
     expect(geojson.crs).toBeUndefined();
     const centres = geojson.features.filter((f) => f.properties.role === 'centre');
     const stops = geojson.features.filter((f) => f.properties.role === 'stop');
+    const zones = geojson.features.filter((f) => f.properties.role === 'zone');
     expect(centres).toHaveLength(12);
     expect(stops).toHaveLength(4201);
-    for (const f of geojson.features) {
+    expect(zones).toHaveLength(12);
+    for (const z of zones) expect(['Polygon', 'MultiPolygon']).toContain(z.geometry.type);
+    for (const f of [...centres, ...stops]) {
       expect(f.geometry.type).toBe('Point');
       const [lon, lat] = f.geometry.coordinates as [number, number];
       // [longitude, latitude] order (RFC 7946 section 3.1.1); at most 6 decimals (section 11.2).
