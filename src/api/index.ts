@@ -2,3 +2,4 @@ export * from './types.js';
 export { checkStopsFile, planStopsFile, solveStops, writePlanFiles, zoneRows, planReport, limitsOutcome, type SolvedPlan, type RunHooks } from './plan-file.js';
 export { sweepStopsFile, workloadSpread } from './sweep.js';
 export { checkReport, lonLatBox } from './report.js';
+export { rebalancePlan, comparePlans, type RebalanceOptions } from './rebalance.js';

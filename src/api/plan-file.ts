@@ -147,7 +147,7 @@ async function solveFor(stops: StopSet, settings: PlanSettingsInput, k: number, 
       driveHooks,
     );
   }
-  const plan = planFromSolve(result, s, { zoneNames: setup.names, locked: setup.locked });
+  const plan = planFromSolve(result, s, { zoneNames: setup.names, locked: setup.locked, limitSettings: setup.limits ?? null });
   const figures = planFigures(stops.units, stops.demand, plan.centres, plan.assignment);
   return { stops, plan, result, figures };
 }

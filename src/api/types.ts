@@ -167,3 +167,124 @@ export interface SweepReport {
   readonly rows: readonly SweepRow[];
   readonly distanceNote: string;
 }
+
+/** A project file (.zoneplan): what it holds. */
+export interface ProjectInfo {
+  readonly file: string;
+  /** The project format version (the file's schema version after any migration). */
+  readonly formatVersion: number;
+  readonly created: string | null;
+  readonly createdBy: string | null;
+  readonly stopSets: number;
+  readonly plans: number;
+  readonly edits: number;
+  /** When this open migrated an older file: the format it had, and the copy kept of it. */
+  readonly migratedFrom: number | null;
+  readonly backup: string | null;
+}
+
+/** One import of stops into a project. */
+export interface StopSetSummary {
+  readonly id: number;
+  readonly source: string;
+  readonly format: 'csv' | 'geojson';
+  /** ISO 8601 time of the import. */
+  readonly imported: string;
+  readonly stops: number;
+  readonly fields: { readonly id: string | null; readonly lon: string; readonly lat: string; readonly demand: string | null };
+  readonly warnings: readonly InputProblem[];
+}
+
+/** One saved plan (a version) as listed. */
+export interface ProjectPlanRow {
+  readonly name: string;
+  /** ISO 8601 time it was saved. */
+  readonly created: string;
+  readonly stops: number;
+  readonly zones: number;
+  readonly objectiveKm2: number;
+  readonly converged: boolean;
+  readonly seed: number | null;
+  /** The plan it was made from (a rebalance), or null. */
+  readonly parent: string | null;
+  /** The stops file and the project's stop set it used. */
+  readonly source: string;
+  readonly stopSet: number;
+  /** The settings in one line, e.g. "12 zones, seed 3, 4 starts, capacity 900". */
+  readonly settings: string;
+  /** The settings as asked for, when they were saved with the plan. */
+  readonly request: PlanSettingsInput | null;
+  /** With workload limits: whether every bound holds; null without limits. */
+  readonly feasible: boolean | null;
+  readonly fixedZones: number;
+  readonly hasBoundaries: boolean;
+  /** Manual edits recorded against it. */
+  readonly edits: number;
+}
+
+export type PlanEditKind = 'move' | 'lock' | 'unlock' | 'pin-centre';
+
+/**
+ * A manual edit to record. The stop by its id (as in the stops file) or its 0-based index;
+ * zones by their label as shown (1..K). move: `zone` is where the stop goes; lock: the zone it
+ * stays in (default its current zone); unlock: no zone; pin-centre: `zone` and the position.
+ */
+export interface PlanEditInput {
+  readonly kind: PlanEditKind;
+  readonly stopId?: string;
+  readonly stopIndex?: number;
+  readonly zone?: number;
+  readonly lon?: number;
+  readonly lat?: number;
+}
+
+/** A recorded manual edit. Zones are labels (1..K); fromZone is the stop's zone before the edit. */
+export interface PlanEditRow {
+  readonly id: number;
+  readonly plan: string;
+  readonly kind: PlanEditKind;
+  readonly stopIndex: number | null;
+  readonly stopId: string | null;
+  readonly fromZone: number | null;
+  readonly toZone: number | null;
+  readonly centre: [lon: number, lat: number] | null;
+  /** ISO 8601 time of the edit. */
+  readonly at: string;
+}
+
+/** Two plans side by side: stops that changed zone, workload per zone before and after. */
+export interface PlanComparison {
+  /** Stops present in both plans, and those of them in another zone (by zone label) in the second. */
+  readonly commonStops: number;
+  readonly changedStops: number;
+  readonly changedDemand: number;
+  /** The changed stops (the first 1000). */
+  readonly changed: readonly { readonly id: string; readonly from: number; readonly to: number; readonly demand: number }[];
+  readonly zones: readonly {
+    readonly zone: number;
+    readonly name: string | null;
+    readonly demandBefore: number | null;
+    readonly demandAfter: number | null;
+    readonly stopsBefore: number | null;
+    readonly stopsAfter: number | null;
+  }[];
+  readonly objectiveBeforeKm2: number;
+  readonly objectiveAfterKm2: number;
+}
+
+/** What a rebalance changed. */
+export interface RebalanceReport {
+  /** Stops new in the stop set, gone from it, with changed demand, at a changed position. */
+  readonly added: number;
+  readonly removedStops: number;
+  readonly demandChanged: number;
+  readonly positionChanged: number;
+  /** Stops whose zone was removed (moved of necessity), and stops that changed zone besides. */
+  readonly forced: number;
+  readonly moved: number;
+  readonly movedDemand: number;
+  readonly budget: { readonly stops: number } | { readonly demandShare: number } | null;
+  readonly feasible: boolean;
+  readonly comparison: PlanComparison;
+  readonly notes: readonly string[];
+}

@@ -103,6 +103,7 @@ export function readPlanFile(file: string): PlanFile {
     fixedZones,
     locked: anyLocked ? locked : null,
     limits: null,
+    limitSettings: null,
   };
   return { stops, plan, zones };
 }

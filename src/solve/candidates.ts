@@ -108,3 +108,33 @@ export function angle2To(units: Float64Array, i: number, centres: Float64Array, 
   const a = angleFromChord(Math.sqrt(dx * dx + dy * dy + dz * dz));
   return a * a;
 }
+
+/**
+ * Candidate lists with each stop's `extra` zone added where it is missing (one more slot per
+ * stop; -1 in `extra` adds nothing: the slot repeats the nearest). `farthest` keeps its meaning:
+ * a lower bound for every zone not listed.
+ */
+export function withZones(cand: Candidates, units: Float64Array, centres: Float64Array, extra: Int32Array): Candidates {
+  const { n, k, c } = cand;
+  if (c === k) return cand;
+  const c2 = c + 1;
+  const zone = new Int32Array(n * c2);
+  const angle2 = new Float64Array(n * c2);
+  for (let i = 0; i < n; i++) {
+    for (let s = 0; s < c; s++) {
+      zone[i * c2 + s] = cand.zone[i * c + s]!;
+      angle2[i * c2 + s] = cand.angle2[i * c + s]!;
+    }
+    const e = extra[i]!;
+    let listed = e < 0;
+    for (let s = 0; s < c && !listed; s++) if (cand.zone[i * c + s] === e) listed = true;
+    if (listed) {
+      zone[i * c2 + c] = cand.zone[i * c]!;
+      angle2[i * c2 + c] = cand.angle2[i * c]!;
+    } else {
+      zone[i * c2 + c] = e;
+      angle2[i * c2 + c] = angle2To(units, i, centres, e);
+    }
+  }
+  return { n, k, c: c2, zone, angle2, farthest: cand.farthest };
+}

@@ -1,5 +1,5 @@
 import { EARTH_RADIUS_KM } from '../geo/constants.js';
-import { angle2To, nearestCandidates, type Candidates } from './candidates.js';
+import { angle2To, nearestCandidates, withZones, type Candidates } from './candidates.js';
 import { ZoneFlow } from './flow.js';
 import { WholeStops } from './repair.js';
 
@@ -46,6 +46,13 @@ export interface LimitOptions {
   readonly guess?: Int32Array;
   /** Shortest paths at most (default 50 n + 10 000). */
   readonly maxPaths?: number;
+  /**
+   * For rebalancing: each stop's zone in the plan before (-1: none) and what moving it away costs,
+   * per unit of demand in rad^2 (the same units as demand x angle^2); the step then minimises
+   * distance cost plus move cost.
+   */
+  readonly stay?: Int32Array;
+  readonly moveCost?: Float64Array;
 }
 
 /**
@@ -68,7 +75,10 @@ export interface LimitLp {
   readonly byDemand: boolean;
   /** The LP's objective (sum of demand x great-circle km^2, split stops in part). */
   readonly lpObjectiveKm2: number;
-  /** The Lagrangian dual at the final prices: a lower bound on every assignment in the bounds. */
+  /**
+   * The Lagrangian dual at the final prices: a lower bound on every assignment in the bounds
+   * (on distance + move cost when a move cost is set).
+   */
   readonly lowerBoundKm2: number;
   readonly prices: Prices;
   /** True when the bounds could not all be met even with stops split. */
@@ -84,7 +94,8 @@ export interface LimitLp {
 export function solveLimitLp(units: Float64Array, demand: Float64Array, centres: Float64Array, bounds: ZoneBounds, locked: Int32Array | null, options: LimitOptions = {}): LimitLp {
   const n = demand.length;
   const k = centres.length / 3;
-  const candidates = nearestCandidates(units, centres, options.candidates ?? 8, options.guess);
+  const near = nearestCandidates(units, centres, options.candidates ?? 8, options.guess);
+  const candidates = options.stay ? withZones(near, units, centres, options.stay) : near;
   const lockedDemand = new Float64Array(k);
   const lockedStops = new Float64Array(k);
   let lockedCost = 0;
@@ -115,6 +126,7 @@ export function solveLimitLp(units: Float64Array, demand: Float64Array, centres:
   const carried = Int32Array.from(free.filter((i) => supply[i]! > 0));
   const upper = byDemand ? freeBounds.maxDemand : freeBounds.maxStops;
   const lower = byDemand ? freeBounds.minDemand : freeBounds.minStops;
+  const bonus = stayBonus(options, byDemand, demand);
   const flow = new ZoneFlow(
     units,
     centres,
@@ -124,6 +136,8 @@ export function solveLimitLp(units: Float64Array, demand: Float64Array, centres:
     costFactor,
     { upper, lower },
     options.warm ? (byDemand ? options.warm.demand : options.warm.stops) : undefined,
+    options.stay ?? null,
+    bonus,
   );
   const maxPaths = options.maxPaths ?? 50 * n + 10_000;
   flow.run(maxPaths);
@@ -138,10 +152,20 @@ export function solveLimitLp(units: Float64Array, demand: Float64Array, centres:
     if (up > 0) dual -= up * upper[j]!;
     if (down > 0) dual += down * lower[j]!;
   }
+  // The LP's distance objective (the move cost, if any, is not part of it) and its move cost.
   let lp = lockedCost;
   flow.forEachPiece((i, z, x) => {
     lp += x * demand[i]! * flow.angle2(i, z);
   });
+  if (bonus) {
+    // With a move cost the flow minimises distance + move cost - (the move cost of every stop
+    // that has a zone to stay in): add that constant back, so that the bound is one on
+    // distance + move cost.
+    for (let t = 0; t < carried.length; t++) {
+      const i = carried[t]!;
+      if (options.stay![i]! >= 0) dual += supply[i]! * bonus[i]!;
+    }
+  }
   // Stops the flow does not carry (demand 0 when demand is bounded) cost nothing.
   const price = flow.price.slice();
   return {
@@ -158,6 +182,13 @@ export function solveLimitLp(units: Float64Array, demand: Float64Array, centres:
     prices: byDemand ? { demand: price, stops: new Float64Array(k) } : { demand: new Float64Array(k), stops: price },
     blocked: flow.blocked,
   };
+}
+
+/** Per-unit stay bonus for the flow (move cost per unit of the flow's commodity). */
+function stayBonus(options: LimitOptions, byDemand: boolean, demand: Float64Array): Float64Array | null {
+  if (!options.stay || !options.moveCost) return null;
+  // moveCost is per unit of demand; when the flow carries stop counts, per stop it is w x that.
+  return byDemand ? options.moveCost : options.moveCost.map((c, i) => c * demand[i]!);
 }
 
 export interface LimitedAssignment {
@@ -208,19 +239,28 @@ export function assignWithLimits(
   const upper = byDemand ? freeBounds.maxDemand : freeBounds.maxStops;
   const lower = byDemand ? freeBounds.minDemand : freeBounds.minStops;
 
-  const makeWhole = (f: ZoneFlow): { whole: WholeStops; assignment: Int32Array; split: number; repaired: number; breach: number; cost: number; roundLoad: Float64Array } => {
+  // With a move cost: what moving stop i from zone `from` to `to` adds (or saves) in move cost.
+  const stay = options.stay;
+  const mc = options.moveCost;
+  const moveCostOf = stay && mc
+    ? (i: number, from: number, to: number): number => (stay[i]! < 0 ? 0 : demand[i]! * mc[i]! * ((to !== stay[i] ? 1 : 0) - (from !== stay[i] ? 1 : 0)))
+    : null;
+  const makeWhole = (f: ZoneFlow): { whole: WholeStops; assignment: Int32Array; split: number; repaired: number; breach: number; cost: number; moves: number; roundLoad: Float64Array } => {
     const assignment = new Int32Array(n);
     for (let i = 0; i < n; i++) if (locked && locked[i]! >= 0) assignment[i] = locked[i]!;
     const split = f.round(assignment);
     const roundLoad = f.load.slice();
     // Stops the flow does not carry: their cheapest zone at the prices.
     for (const i of free) if (supply && !(supply[i]! > 0)) assignment[i] = f.bestZone(i);
-    const whole = new WholeStops(demand, cand, angle2, free, freeBounds, assignment);
+    const whole = new WholeStops(demand, cand, angle2, free, freeBounds, assignment, moveCostOf);
     const repaired = whole.repair(Math.max(100, 2 * k + split * 4));
     whole.improve(2);
     let cost = 0;
     for (const i of free) cost += demand[i]! * angle2(i, assignment[i]!);
-    return { whole, assignment, split, repaired, breach: whole.totalBreach(), cost, roundLoad };
+    // Choosing between outcomes counts the move cost too (the objective stays the distance one).
+    let moves = 0;
+    if (stay && mc) for (const i of free) if (stay[i]! >= 0 && assignment[i] !== stay[i]) moves += demand[i]! * mc[i]!;
+    return { whole, assignment, split, repaired, breach: whole.totalBreach(), cost, moves, roundLoad };
   };
   let chosen = makeWhole(flow);
   if (chosen.breach > 0) {
@@ -242,13 +282,15 @@ export function assignWithLimits(
       byDemand ? new Float64Array(n).fill(1) : demand,
       { upper: adjUpper, lower: adjLower },
       flow.price,
+      options.stay ?? null,
+      stayBonus(options, byDemand, demand),
     );
     const maxPaths = options.maxPaths ?? 50 * n + 10_000;
     retry.run(maxPaths);
     for (let round = 0; round < 8 && !retry.blocked && retry.settle() > 0; round++) retry.run(maxPaths);
     if (!retry.blocked) {
       const other = makeWhole(retry);
-      if (other.breach < chosen.breach - 1e-12 || (other.breach <= chosen.breach && other.cost < chosen.cost)) chosen = other;
+      if (other.breach < chosen.breach - 1e-12 || (other.breach <= chosen.breach && other.cost + other.moves < chosen.cost + chosen.moves)) chosen = other;
     }
   }
 

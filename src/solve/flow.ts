@@ -70,6 +70,9 @@ export class ZoneFlow {
     private readonly costFactor: Float64Array,
     private readonly bounds: FlowBounds,
     warm?: Float64Array,
+    /** Optional: each stop's current zone (-1: none) and a per-unit bonus for staying there (a move cost). */
+    private readonly stay: Int32Array | null = null,
+    private readonly stayBonus: Float64Array | null = null,
   ) {
     const k = centres.length / 3;
     this.k = k;
@@ -157,9 +160,22 @@ export class ZoneFlow {
     return angle2To(this.units, i, this.centres, j);
   }
 
+  /** Per-unit cost of stop i in zone j: costFactor x angle^2, less the bonus for staying in its zone. */
+  unitCost(i: number, j: number): number {
+    const c = this.costFactor[i]! * this.angle2(i, j);
+    return this.stay && this.stay[i] === j ? c - this.stayBonus![i]! : c;
+  }
+
+  /** unitCost for candidate slot s of stop i. */
+  private candCost(i: number, s: number): number {
+    const C = this.cand.c;
+    const c = this.costFactor[i]! * this.cand.angle2[i * C + s]!;
+    return this.stay && this.stay[i] === this.cand.zone[i * C + s] ? c - this.stayBonus![i]! : c;
+  }
+
   /** Per-unit value of stop i in zone j at the current prices. */
   value(i: number, j: number): number {
-    return this.costFactor[i]! * this.angle2(i, j) + this.price[j]!;
+    return this.unitCost(i, j) + this.price[j]!;
   }
 
   /** Zone of least per-unit value for stop i, over all zones (candidates, then a bound check). */
@@ -171,7 +187,7 @@ export class ZoneFlow {
     let bv = Infinity;
     for (let s = 0; s < C; s++) {
       const j = this.cand.zone[base + s]!;
-      const v = f * this.cand.angle2[base + s]! + this.price[j]!;
+      const v = this.candCost(i, s) + this.price[j]!;
       if (v < bv) {
         bv = v;
         bz = j;
@@ -182,7 +198,8 @@ export class ZoneFlow {
       for (let j = 0; j < this.k; j++) if (this.price[j]! < this.pMin) this.pMin = this.price[j]!;
       this.pMinStale = false;
     }
-    if (!(bv <= f * this.cand.farthest[i]! + this.pMin)) {
+    const bonus = this.stay ? this.stayBonus![i]! : 0;
+    if (!(bv <= f * this.cand.farthest[i]! - bonus + this.pMin)) {
       for (let j = 0; j < this.k; j++) {
         const v = this.value(i, j);
         if (v < bv) {
@@ -222,8 +239,7 @@ export class ZoneFlow {
     const i = this.pieceStop[piece]!;
     const j = this.pieceZone[piece]!;
     const C = this.cand.c;
-    const f = this.costFactor[i]!;
-    const here = this.angle2(i, j);
+    const here = this.unitCost(i, j);
     const version = this.pieceVersion[piece]!;
     for (let s = 0; s < C; s++) {
       const l = this.cand.zone[i * C + s]!;
@@ -235,7 +251,7 @@ export class ZoneFlow {
         this.heaps.set(key, heap);
         this.outgoing[j]!.add(l);
       }
-      heap.push(f * (this.cand.angle2[i * C + s]! - here), piece, version);
+      heap.push(this.candCost(i, s) - here, piece, version);
     }
   }
 
@@ -335,7 +351,7 @@ export class ZoneFlow {
         for (let t = 0; t < list.length; t++) {
           const piece = list[t]!;
           const i = this.pieceStop[piece]!;
-          heap.push(this.costFactor[i]! * (this.angle2(i, l) - this.angle2(i, u)), piece, this.pieceVersion[piece]!);
+          heap.push(this.unitCost(i, l) - this.unitCost(i, u), piece, this.pieceVersion[piece]!);
         }
         added = true;
       }
@@ -405,13 +421,12 @@ export class ZoneFlow {
       for (let u = 0; u < list.length; u++) {
         const piece = list[u]!;
         const i = this.pieceStop[piece]!;
-        const f = this.costFactor[i]!;
         let bz = -1;
         let bv = Infinity;
         for (let s = 0; s < C; s++) {
           const l = this.cand.zone[i * C + s]!;
           if (l === j) continue;
-          const v = f * this.cand.angle2[i * C + s]! + this.price[l]!;
+          const v = this.candCost(i, s) + this.price[l]!;
           if (v < bv) {
             bv = v;
             bz = l;
@@ -726,7 +741,7 @@ export class ZoneFlow {
           }
         }
         breach /= scale;
-        const cost = s * this.costFactor[i]! * this.angle2(i, z) + breachCost;
+        const cost = s * this.unitCost(i, z) + breachCost;
         if (cost < bestCost || (cost === bestCost && breach < bestBreach)) {
           bestBreach = breach;
           bestCost = cost;

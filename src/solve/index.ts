@@ -6,3 +6,4 @@ export { solveLimitedSteps, type LimitedSettings, type LimitedResult, type Limit
 export { hasLimits, zoneBounds, zonesForCapacity, type LimitSettings, type LimitNote } from './limits.js';
 export { assignWithLimits, solveLimitLp, type ZoneBounds, type ZoneViolation, type LimitedAssignment } from './capacity.js';
 export { drive, type DriveHooks } from './drive.js';
+export { rebalance, type MoveBudget, type RebalanceInput, type RebalanceSettings, type RebalanceResult } from './rebalance.js';

@@ -1,4 +1,5 @@
 import type { LimitsReport } from './limited.js';
+import type { LimitSettings } from './limits.js';
 import type { SolveResult, SolveSettings } from './types.js';
 
 /** A plan: K zones with centres, and the zone of every stop. What is saved, shown and exported. */
@@ -19,14 +20,15 @@ export interface Plan {
   readonly fixedZones: number;
   /** Stops that must stay in their zone (zone index, or -1), when any were locked. */
   readonly locked: Int32Array | null;
-  /** What the workload limits did, when there were any. */
+  /** What the workload limits did, when there were any, and the limits as they were set. */
   readonly limits: LimitsReport | null;
+  readonly limitSettings?: LimitSettings | null;
 }
 
 export function planFromSolve(
   result: SolveResult & { limits?: LimitsReport | null; fixedZones?: number },
   settings: SolveSettings,
-  extra: { zoneNames?: readonly (string | null)[]; locked?: Int32Array | null } = {},
+  extra: { zoneNames?: readonly (string | null)[]; locked?: Int32Array | null; limitSettings?: LimitSettings | null } = {},
 ): Plan {
   const k = result.zones;
   return {
@@ -41,5 +43,6 @@ export function planFromSolve(
     fixedZones: result.fixedZones ?? 0,
     locked: extra.locked ?? null,
     limits: result.limits ?? null,
+    limitSettings: extra.limitSettings ?? null,
   };
 }

@@ -34,6 +34,8 @@ export class WholeStops {
     private readonly free: readonly number[],
     private readonly bounds: WholeBounds,
     readonly assignment: Int32Array,
+    /** Optional extra cost of a move (a rebalance's move cost), in the units of demand x angle^2. */
+    private readonly extraCost: ((i: number, from: number, to: number) => number) | null = null,
   ) {
     const k = bounds.maxDemand.length;
     this.loadD = new Float64Array(k);
@@ -92,7 +94,9 @@ export class WholeStops {
   }
 
   private cost(i: number, to: number): number {
-    return this.demand[i]! * (this.angle2(i, to) - this.angle2(i, this.assignment[i]!));
+    const from = this.assignment[i]!;
+    const d = this.demand[i]! * (this.angle2(i, to) - this.angle2(i, from));
+    return this.extraCost ? d + this.extraCost(i, from, to) : d;
   }
 
   private readonly tz = new Int32Array(8);
