@@ -3,3 +3,24 @@ export { checkStopsFile, planStopsFile, solveStops, writePlanFiles, zoneRows, pl
 export { sweepStopsFile, workloadSpread } from './sweep.js';
 export { checkReport, lonLatBox } from './report.js';
 export { rebalancePlan, comparePlans, type RebalanceOptions } from './rebalance.js';
+export {
+  createProject,
+  openProject,
+  getProjectInfo,
+  importStopsToProject,
+  listStopSets,
+  savePlanToProject,
+  listPlans,
+  loadPlan,
+  renamePlan,
+  appendEdit,
+  listEdits,
+  checkPlanCanBeSaved,
+  planStopsFileToProject,
+  exportPlanFromProject,
+  settingsLine,
+  ProjectHandle,
+  type LoadedPlan,
+  type SavePlanOptions,
+} from './project.js';
+export { ProjectError, type ProjectErrorCode } from '../store/errors.js';

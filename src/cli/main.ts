@@ -1,3 +1,4 @@
+import path from 'node:path';
 import { Command, CommanderError, InvalidArgumentError, Option } from 'commander';
 import { checkStopsFile, planStopsFile } from '../api/plan-file.js';
 import { sweepStopsFile } from '../api/sweep.js';
@@ -7,6 +8,9 @@ import type { StopFileOptions, PlanSettingsInput } from '../api/types.js';
 import { ImportError, formatProblem } from '../io/problems.js';
 import { WriteError } from '../io/atomic.js';
 import { SolveError } from '../solve/types.js';
+import { createProject, exportPlanFromProject, importStopsToProject, listPlans, planStopsFileToProject } from '../api/project.js';
+import type { ProjectPlanRow } from '../api/types.js';
+import { ProjectError } from '../store/errors.js';
 import { planText, problemLine, fixed, amount, sweepText, sweepCsv } from './format.js';
 
 /** Exit codes: 0 done; 2 the user must change something (input, options, destination); 1 internal fault. */
@@ -173,7 +177,12 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
     .option('--margin-km <km>', 'zone polygons cover the hull of the stops plus this margin (default 2)', positiveNumber('margin-km'))
     .option('--service-area <file>', 'GeoJSON Polygon/MultiPolygon the zone polygons partition (instead of the hull plus margin)')
     .option('--no-boundaries', 'write no zone polygons');
+  planCommand
+    .option('--project <file>', 'also save the plan as a new version in this project file (.zoneplan; see zoneplan project new)')
+    .option('--name <name>', 'the name of the saved plan (with --project); names are unique in a project')
+    .option('--parent <name>', 'the saved plan this one was made from, e.g. a rebalance (with --project)');
   addLimitOptions(planCommand).action(async (input: string, o: Record<string, unknown>) => {
+      const project = projectTarget(planCommand, o);
       const settings: { -readonly [K in keyof PlanSettingsInput]: PlanSettingsInput[K] } = { zones: o.zones as number | 'auto', ...limitSettings(o) };
       if (o.seed !== undefined) settings.seed = o.seed as number;
       if (o.restarts !== undefined) settings.restarts = o.restarts as number;
@@ -183,7 +192,8 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
       if (o.threads !== undefined) settings.threads = o.threads as number;
       const showProgress = io.isTty && !o.quiet && !o.json;
       let lastDraw = 0;
-      const report = await planStopsFile(
+      const { report, saved } = await planMaybeSaving(
+        project,
         input,
         readOptions(o),
         settings,
@@ -214,6 +224,7 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
         io.err(`warning: ${report.limits.breaches.length} zone bound${report.limits.breaches.length === 1 ? '' : 's'} could not be met (see the limits lines); the plan was still written\n`);
       }
       io.out(o.json ? `${JSON.stringify(report, null, 2)}\n` : `${planText(report)}\n`);
+      if (saved) (o.json ? io.err : io.out)(`saved as plan ${saved.name} in ${project!.file}\n`);
     });
 
   const sweepCommand = addReadOptions(
@@ -245,6 +256,8 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
     else io.out(`${sweepText(report)}\n`);
   });
 
+  addProjectCommands(program, io);
+
   try {
     await program.parseAsync(argv as string[], { from: 'user' });
   } catch (e) {
@@ -273,8 +286,119 @@ function reportFailure(e: unknown, io: CliIo): number {
     io.err(`error: ${e.message}\n`);
     return EXIT_USAGE;
   }
+  if (e instanceof ProjectError) {
+    io.err(`error: ${e.message}\n`);
+    return EXIT_USAGE;
+  }
   io.err(`internal error: ${e instanceof Error ? e.message : String(e)}\n`);
   if (process.env.ZONEPLAN_DEBUG && e instanceof Error && e.stack) io.err(`${e.stack}\n`);
   else io.err('this is a fault in Zoneplan, not in your input; run with ZONEPLAN_DEBUG=1 for details\n');
   return EXIT_FAULT;
+}
+
+// ---- projects (.zoneplan files): project new / import, plans, export, plan --project
+
+/** --project and --name of `plan`, checked together. */
+function projectTarget(cmd: Command, o: Record<string, unknown>): { file: string; name: string; parent?: string } | null {
+  const file = typeof o.project === 'string' ? o.project : null;
+  const name = typeof o.name === 'string' ? o.name : null;
+  if (file === null && name === null && o.parent === undefined) return null;
+  if (file === null) cmd.error(`error: --${name !== null ? 'name' : 'parent'} needs --project FILE (the project to save the plan in)`, { exitCode: EXIT_USAGE });
+  if (name === null || name.trim() === '') cmd.error('error: --project needs --name NAME (the name of the saved plan, e.g. "week 12")', { exitCode: EXIT_USAGE });
+  return { file, name, ...(typeof o.parent === 'string' ? { parent: o.parent } : {}) };
+}
+
+/** planStopsFile, or planStopsFileToProject when the plan is to be saved in a project. */
+async function planMaybeSaving(
+  project: { file: string; name: string; parent?: string } | null,
+  ...args: Parameters<typeof planStopsFile>
+): Promise<{ report: Awaited<ReturnType<typeof planStopsFile>>; saved: ProjectPlanRow | null }> {
+  if (!project) return { report: await planStopsFile(...args), saved: null };
+  const [input, read, settings, out, hooks, boundaries] = args;
+  return planStopsFileToProject(input, read, settings, out ?? {}, project, hooks, boundaries);
+}
+
+/** Text table, text columns left-aligned and number columns right-aligned. */
+function plansTable(rows: readonly ProjectPlanRow[]): string {
+  const header = ['name', 'saved (UTC)', 'stops', 'zones', 'objective km²', 'parent', 'edits', 'settings'];
+  const right = new Set([2, 3, 4, 6]);
+  const cells = rows.map((r) => [
+    r.name,
+    r.created.slice(0, 16).replace('T', ' '),
+    String(r.stops),
+    String(r.zones),
+    r.objectiveKm2.toExponential(4),
+    r.parent ?? '-',
+    String(r.edits),
+    `${r.settings}${r.feasible === false ? ' (limits not met)' : ''}`,
+  ]);
+  const widths = header.map((h, c) => Math.max(h.length, ...cells.map((row) => row[c]!.length)));
+  const line = (row: readonly string[]): string =>
+    row
+      .map((v, c) => (c === row.length - 1 ? v : right.has(c) ? v.padStart(widths[c]!) : v.padEnd(widths[c]!)))
+      .join('  ')
+      .trimEnd();
+  return [line(header), line(widths.map((w) => '-'.repeat(w))), ...cells.map(line)].join('\n');
+}
+
+function boundaryOptions(o: Record<string, unknown>): { boundaries?: boolean; marginKm?: number; serviceArea?: ReturnType<typeof readServiceAreaFile> } {
+  return {
+    ...(o.boundaries === false ? { boundaries: false } : {}),
+    ...(o.marginKm !== undefined ? { marginKm: o.marginKm as number } : {}),
+    ...(typeof o.serviceArea === 'string' ? { serviceArea: readServiceAreaFile(o.serviceArea) } : {}),
+  };
+}
+
+function addProjectCommands(program: Command, io: CliIo): void {
+  const project = program.command('project').description('project files (.zoneplan): stop sets, saved plans and manual edits in one SQLite file');
+  project
+    .command('new')
+    .description('make a new, empty project file (an existing file is never overwritten)')
+    .argument('<file>', 'the project file to make, e.g. tallowmere.zoneplan')
+    .action(async (file: string) => {
+      const info = await createProject(file);
+      if (path.extname(file).toLowerCase() !== '.zoneplan') io.err(`note: ${file} does not end in .zoneplan; the desktop app opens projects by that extension\n`);
+      io.out(`created project ${info.file} (project format ${info.formatVersion})\n`);
+    });
+  addReadOptions(
+    project
+      .command('import')
+      .description('import a stops file into a project as a new stop set (with its warnings)')
+      .argument('<file>', 'the project file')
+      .argument('<stops>', 'stops file: CSV with a header, or GeoJSON FeatureCollection of Points'),
+  ).action(async (file: string, stops: string, o: Record<string, unknown>) => {
+    const s = await importStopsToProject(file, stops, readOptions(o));
+    for (const w of s.warnings) io.err(`${problemLine(w)}\n`);
+    io.out(`imported ${s.stops} stops from ${s.source} into ${file} as stop set ${s.id}\n`);
+  });
+
+  program
+    .command('plans')
+    .description('list the plans saved in a project')
+    .argument('<file>', 'the project file')
+    .option('--json', 'print the list as JSON on stdout')
+    .action(async (file: string, o: Record<string, unknown>) => {
+      const rows = await listPlans(file);
+      if (o.json) io.out(`${JSON.stringify(rows, null, 2)}\n`);
+      else if (rows.length === 0) io.out(`${file} has no plans yet; save one with: zoneplan plan STOPS --zones K --project ${file} --name NAME\n`);
+      else io.out(`${plansTable(rows)}\n`);
+    });
+
+  program
+    .command('export')
+    .description('write a saved plan as GeoJSON and/or an assignments CSV')
+    .argument('<file>', 'the project file')
+    .requiredOption('--plan <name>', 'the saved plan to export (see zoneplan plans FILE)')
+    .option('-o, --out <file>', 'write the plan as GeoJSON (RFC 7946): zones, centres and stops')
+    .option('--assignments <file>', 'write stop assignments as CSV: stop_id, zone, km_to_centre, demand')
+    .option('--margin-km <km>', 'zone polygons cover the hull of the stops plus this margin (default 2)', positiveNumber('margin-km'))
+    .option('--service-area <file>', 'GeoJSON Polygon/MultiPolygon the zone polygons partition (instead of the hull plus margin)')
+    .option('--no-boundaries', 'write no zone polygons')
+    .action(async (file: string, o: Record<string, unknown>, cmd: Command) => {
+      const out = { ...(typeof o.out === 'string' ? { geojson: o.out } : {}), ...(typeof o.assignments === 'string' ? { assignments: o.assignments } : {}) };
+      if (!out.geojson && !out.assignments) cmd.error('error: nothing to export: give --out FILE.geojson and/or --assignments FILE.csv', { exitCode: EXIT_USAGE });
+      const { plan, notes } = await exportPlanFromProject(file, o.plan as string, out, boundaryOptions(o));
+      for (const note of notes) io.err(`note: ${note}\n`);
+      io.out(`wrote plan ${plan.name} (${plan.stops} stops, ${plan.zones} zones): ${[out.geojson, out.assignments].filter(Boolean).join(', ')}\n`);
+    });
 }
