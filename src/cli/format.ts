@@ -1,4 +1,4 @@
-import type { InputProblem, PlanReport, SweepReport, SweepRow, ZoneRow } from '../api/types.js';
+import type { InputProblem, PlanComparison, PlanReport, RebalanceReport, SweepReport, SweepRow, ZoneRow } from '../api/types.js';
 
 /** Right-aligned text table with a header row. */
 export function table(header: readonly string[], rows: readonly (readonly string[])[]): string {
@@ -104,4 +104,30 @@ export function sweepText(r: SweepReport): string {
 export function sweepCsv(rows: readonly SweepRow[]): string {
   const head = 'zones,objective_km2,max_min_demand_ratio,demand_cv,mean_km,max_km,limits_met,gap';
   return `${[head, ...rows.map((r) => [r.zones, r.objectiveKm2, r.maxMinRatio, r.demandCv, r.meanKm, r.maxKm, r.feasible ?? '', r.gap ?? ''].join(','))].join('\n')}\n`;
+}
+
+export function comparisonText(c: PlanComparison, a: string, b: string, listLimit: number): string {
+  const lines = [
+    `${a} -> ${b}: ${c.changedStops} of ${c.commonStops} common stops changed zone (demand ${amount(c.changedDemand)})`,
+    `objective ${c.objectiveBeforeKm2.toExponential(6)} -> ${c.objectiveAfterKm2.toExponential(6)} km²`,
+    '',
+    table(
+      ['zone', 'stops before', 'stops after', 'demand before', 'demand after'],
+      c.zones.map((z) => [String(z.zone), z.stopsBefore === null ? '-' : String(z.stopsBefore), z.stopsAfter === null ? '-' : String(z.stopsAfter), z.demandBefore === null ? '-' : amount(z.demandBefore), z.demandAfter === null ? '-' : amount(z.demandAfter)]),
+    ),
+  ];
+  if (listLimit > 0 && c.changed.length > 0) {
+    lines.push('', table(['stop', 'from', 'to', 'demand'], c.changed.slice(0, listLimit).map((x) => [x.id, String(x.from), String(x.to), amount(x.demand)])));
+    if (c.changedStops > listLimit) lines.push(`... and ${c.changedStops - listLimit} more (--list N, or --json for all)`);
+  }
+  return lines.join('\n');
+}
+
+export function rebalanceText(r: RebalanceReport, from: string, to: string): string {
+  const budget = r.budget ? ('stops' in r.budget ? `budget ${r.budget.stops} stops` : `budget ${(r.budget.demandShare * 100).toFixed(2)}% of demand`) : 'no budget';
+  return [
+    `stops: ${r.added} new, ${r.removedStops} gone, ${r.demandChanged} with new demand, ${r.positionChanged} moved in place`,
+    `rebalanced ${from} -> ${to}: ${r.moved} stop${r.moved === 1 ? '' : 's'} changed zone (demand ${amount(r.movedDemand)}; ${budget})${r.forced > 0 ? `, ${r.forced} more because their zone was removed` : ''}`,
+    comparisonText(r.comparison, from, to, 20),
+  ].join('\n');
 }

@@ -8,10 +8,17 @@ import type { StopFileOptions, PlanSettingsInput } from '../api/types.js';
 import { ImportError, formatProblem } from '../io/problems.js';
 import { WriteError } from '../io/atomic.js';
 import { SolveError } from '../solve/types.js';
-import { createProject, exportPlanFromProject, importStopsToProject, listPlans, planStopsFileToProject } from '../api/project.js';
+import { checkPlanCanBeSaved, createProject, importStopsToProject, listPlans, loadPlan, planStopsFileToProject, savePlanToProject } from '../api/project.js';
+import { writePlanFiles, writePlanLayers, type SolvedPlan } from '../api/plan-file.js';
+import { comparePlans, rebalancePlan } from '../api/rebalance.js';
+import { readPlanFile } from '../io/plan-reader.js';
+import { readStopsFile } from '../io/read.js';
+import { planFigures } from '../zones/stats.js';
+import type { Plan } from '../solve/plan.js';
+import { mkdirSync } from 'node:fs';
 import type { ProjectPlanRow } from '../api/types.js';
 import { ProjectError } from '../store/errors.js';
-import { planText, problemLine, fixed, amount, sweepText, sweepCsv } from './format.js';
+import { planText, problemLine, fixed, amount, sweepText, sweepCsv, comparisonText, rebalanceText } from './format.js';
 
 /** Exit codes: 0 done; 2 the user must change something (input, options, destination); 1 internal fault. */
 export const EXIT_OK = 0;
@@ -341,6 +348,44 @@ function plansTable(rows: readonly ProjectPlanRow[]): string {
   return [line(header), line(widths.map((w) => '-'.repeat(w))), ...cells.map(line)].join('\n');
 }
 
+/** "120" -> 120 stops; "5%" -> 5% of demand. */
+function budgetOption(v: string): { stops: number } | { demandShare: number } {
+  const s = v.trim();
+  if (s.endsWith('%')) {
+    const p = Number(s.slice(0, -1));
+    if (!Number.isFinite(p) || p < 0 || p > 100) throw new InvalidArgumentError(`max-moved must be a number of stops or a percentage from 0% to 100%, got "${v}"`);
+    return { demandShare: p / 100 };
+  }
+  if (!/^\d+$/.test(s)) throw new InvalidArgumentError(`max-moved must be a whole number of stops or a percentage like 5%, got "${v}"`);
+  return { stops: Number(s) };
+}
+
+function zoneListOption(v: string): number[] {
+  const parts = v.split(',').map((x) => x.trim()).filter(Boolean);
+  if (parts.length === 0 || parts.some((x) => !/^\d+$/.test(x))) throw new InvalidArgumentError(`remove-zones must list zone numbers, e.g. 3,7, got "${v}"`);
+  return parts.map(Number);
+}
+
+/** A solve result stand-in for a plan read back from a file (for the writers). */
+function resultOfPlan(plan: Plan): SolvedPlan['result'] {
+  return {
+    zones: plan.zoneIds.length,
+    centres: plan.centres,
+    assignment: plan.assignment,
+    objectiveKm2: plan.objectiveKm2,
+    iterations: plan.iterations,
+    converged: plan.converged,
+    bestRestart: 0,
+    restartObjectivesKm2: [],
+    startStops: plan.assignment.length,
+    seed: plan.settings.seed ?? 1,
+    reseeded: 0,
+    history: [],
+    distanceEvaluations: 0,
+    naiveDistanceEvaluations: 0,
+  };
+}
+
 function boundaryOptions(o: Record<string, unknown>): { boundaries?: boolean; marginKm?: number; serviceArea?: ReturnType<typeof readServiceAreaFile> } {
   return {
     ...(o.boundaries === false ? { boundaries: false } : {}),
@@ -386,19 +431,97 @@ function addProjectCommands(program: Command, io: CliIo): void {
 
   program
     .command('export')
-    .description('write a saved plan as GeoJSON and/or an assignments CSV')
-    .argument('<file>', 'the project file')
-    .requiredOption('--plan <name>', 'the saved plan to export (see zoneplan plans FILE)')
-    .option('-o, --out <file>', 'write the plan as GeoJSON (RFC 7946): zones, centres and stops')
+    .description('write a plan (saved in a project, or a plan GeoJSON file) as GeoJSON, separate layers and/or an assignments CSV')
+    .argument('<file>', 'a project file (with --plan), or a plan GeoJSON file written by zoneplan plan --out')
+    .option('--plan <name>', 'the saved plan to export (see zoneplan plans FILE)')
+    .option('-o, --out <file>', 'write the plan as one GeoJSON (RFC 7946): zones, centres and stops')
+    .option('--layers <dir>', 'write zones.geojson, centres.geojson, stops.geojson and assignments.csv into a folder')
     .option('--assignments <file>', 'write stop assignments as CSV: stop_id, zone, km_to_centre, demand')
     .option('--margin-km <km>', 'zone polygons cover the hull of the stops plus this margin (default 2)', positiveNumber('margin-km'))
     .option('--service-area <file>', 'GeoJSON Polygon/MultiPolygon the zone polygons partition (instead of the hull plus margin)')
     .option('--no-boundaries', 'write no zone polygons')
     .action(async (file: string, o: Record<string, unknown>, cmd: Command) => {
       const out = { ...(typeof o.out === 'string' ? { geojson: o.out } : {}), ...(typeof o.assignments === 'string' ? { assignments: o.assignments } : {}) };
-      if (!out.geojson && !out.assignments) cmd.error('error: nothing to export: give --out FILE.geojson and/or --assignments FILE.csv', { exitCode: EXIT_USAGE });
-      const { plan, notes } = await exportPlanFromProject(file, o.plan as string, out, boundaryOptions(o));
+      const layers = typeof o.layers === 'string' ? o.layers : null;
+      if (!out.geojson && !out.assignments && !layers) cmd.error('error: nothing to export: give --out FILE.geojson, --layers DIR and/or --assignments FILE.csv', { exitCode: EXIT_USAGE });
+      const bounds = boundaryOptions(o);
+      const isProject = path.extname(file).toLowerCase() === '.zoneplan' || typeof o.plan === 'string';
+      let solved: SolvedPlan;
+      let label: string;
+      if (isProject) {
+        if (typeof o.plan !== 'string') cmd.error('error: a project holds many plans: name one with --plan NAME (see zoneplan plans FILE)', { exitCode: EXIT_USAGE });
+        solved = await loadPlan(file, o.plan as string);
+        label = `plan ${o.plan as string}`;
+      } else {
+        const read = readPlanFile(file);
+        solved = { stops: read.stops, plan: read.plan, result: resultOfPlan(read.plan), figures: planFigures(read.stops.units, read.stops.demand, read.plan.centres, read.plan.assignment) };
+        label = `the plan in ${file}`;
+      }
+      const notes = writePlanFiles(solved, out, bounds);
+      const written = [out.geojson, out.assignments].filter(Boolean) as string[];
+      if (layers) {
+        mkdirSync(layers, { recursive: true });
+        const r = writePlanLayers(solved, layers, bounds);
+        written.push(...r.files);
+        notes.push(...r.notes.filter((n) => !notes.includes(n)));
+      }
       for (const note of notes) io.err(`note: ${note}\n`);
-      io.out(`wrote plan ${plan.name} (${plan.stops} stops, ${plan.zones} zones): ${[out.geojson, out.assignments].filter(Boolean).join(', ')}\n`);
+      io.out(`wrote ${label} (${solved.stops.ids.length} stops, ${solved.plan.zoneIds.length} zones): ${written.join(', ')}\n`);
+    });
+
+  program
+    .command('compare')
+    .description('compare two saved plans: stops that changed zone, workload per zone before and after, objectives')
+    .argument('<file>', 'the project file')
+    .argument('<planA>', 'the plan before')
+    .argument('<planB>', 'the plan after')
+    .option('--json', 'print the comparison as JSON on stdout')
+    .option('--list <n>', 'list at most n changed stops (default 20)', wholeNumber(0, 'list'))
+    .action(async (file: string, a: string, b: string, o: Record<string, unknown>) => {
+      const pa = await loadPlan(file, a);
+      const pb = await loadPlan(file, b);
+      const c = comparePlans(pa, pb);
+      if (o.json) io.out(`${JSON.stringify(c, null, 2)}\n`);
+      else io.out(`${comparisonText(c, a, b, (o.list as number | undefined) ?? 20)}\n`);
+    });
+
+  addReadOptions(
+    program
+      .command('rebalance')
+      .description('rebalance a saved plan for a new stop set (demand changed, stops added or gone) with as few stops changing zone as the limits allow; saves it as a new version')
+      .argument('<file>', 'the project file'),
+  )
+    .requiredOption('--plan <name>', 'the saved plan to start from')
+    .requiredOption('--stops <file>', 'the new stops (CSV or GeoJSON; stops matched by id)')
+    .requiredOption('--name <name>', 'name of the new plan version')
+    .option('--max-moved <n|p%>', 'hard budget: at most n stops, or p% of the demand, change zone', budgetOption)
+    .option('--move-cost <km2>', 'cost per unit of demand moved, in km² (default 0: the budget alone holds stops)', positiveNumber('move-cost'))
+    .option('--add-zones <n>', 'add n zones (new vans)', wholeNumber(0, 'add-zones'))
+    .option('--remove-zones <list>', 'remove zones by label, e.g. 3,7 (a depot closes): their stops move', zoneListOption)
+    .option('--capacity <Q>', 'new capacity for every zone (default: the plan\'s limits)', positiveNumber('capacity'))
+    .option('--balance <t>', 'new balance band, e.g. 5% (default: the plan\'s limits)', fractionOption)
+    .option('-o, --out <file>', 'also write the new plan as GeoJSON')
+    .option('--json', 'print the report as JSON on stdout')
+    .action(async (file: string, o: Record<string, unknown>) => {
+      const old = await loadPlan(file, o.plan as string);
+      const stops = readStopsFile(o.stops as string, readOptions(o));
+      const limits =
+        o.capacity !== undefined || o.balance !== undefined
+          ? { ...(old.plan.limitSettings ?? {}), ...(o.capacity !== undefined ? { capacity: o.capacity as number } : {}), ...(o.balance !== undefined ? { balance: o.balance as number } : {}) }
+          : undefined;
+      const { solved, report } = rebalancePlan(old, stops, {
+        ...(o.maxMoved ? { budget: o.maxMoved as { stops: number } | { demandShare: number } } : {}),
+        ...(o.moveCost !== undefined ? { moveCostKm2: o.moveCost as number } : {}),
+        ...(o.addZones !== undefined ? { addZones: o.addZones as number } : {}),
+        ...(o.removeZones ? { removeZones: o.removeZones as number[] } : {}),
+        ...(limits ? { limits } : {}),
+      });
+      await checkPlanCanBeSaved(file, o.name as string, o.plan as string);
+      const saved = await savePlanToProject(file, solved, o.name as string, { parent: o.plan as string });
+      const notes = typeof o.out === 'string' ? writePlanFiles(solved, { geojson: o.out }) : [];
+      for (const note of [...report.notes, ...notes]) io.err(`note: ${note}\n`);
+      if (!report.feasible) io.err('warning: the rebalanced plan does not meet every zone bound (see the zones table)\n');
+      if (o.json) io.out(`${JSON.stringify({ saved, report }, null, 2)}\n`);
+      else io.out(`${rebalanceText(report, o.plan as string, saved.name)}\nsaved as plan ${saved.name} in ${file}\n`);
     });
 }
