@@ -97,7 +97,7 @@ describe('zoneplan project, plan --project, plans, export', () => {
     expect(a.err).toBe(`error: ${file} has no plan named "week 1"; its plans: "week 12", "week 12, 6 vans"\n`);
     const b = await cli(['export', file, '--plan', 'week 12']);
     expect(b.code).toBe(2);
-    expect(b.err).toContain('error: nothing to export: give --out FILE.geojson and/or --assignments FILE.csv');
+    expect(b.err).toContain('error: nothing to export: give --out FILE.geojson, --layers DIR and/or --assignments FILE.csv');
   });
 
   it('imports a stops file with its warnings', async () => {
