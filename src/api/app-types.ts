@@ -1,0 +1,169 @@
+/**
+ * The application API: what the map window (renderer) asks of the main side, the same over
+ * Electron IPC (preload, contextBridge) and over loopback HTTP (browser mode). Types only, no
+ * Node, Electron or DOM imports, so that the renderer can import this file.
+ *
+ * Big arrays travel as ArrayBuffers (binary), everything else as plain JSON-able data.
+ */
+import type { InputProblem, LimitsOutcome, PlanComparison, RebalanceReport, StopFileOptions, SweepRow, ZoneRow } from './types.js';
+
+/** Settings of a plan run, as the plan panel sets them. */
+export interface RunSettings {
+  readonly zones: number | 'auto';
+  readonly seed?: number;
+  readonly restarts?: number;
+  readonly capacity?: number;
+  readonly balance?: number;
+  readonly minStops?: number;
+  readonly maxStops?: number;
+  /** A depots file (path on the main side) or none. */
+  readonly depotsFile?: string;
+  readonly centre?: 'arc' | 'mean';
+}
+
+/** A stop set in the project. */
+export interface StopSetInfo {
+  readonly id: number;
+  readonly source: string;
+  readonly importedAt: string;
+  readonly stops: number;
+  readonly totalDemand: number;
+  readonly warnings: readonly InputProblem[];
+  /** [west, south, east, north]. */
+  readonly bbox: [number, number, number, number];
+}
+
+/** A plan version in the project. */
+export interface PlanInfo {
+  readonly name: string;
+  readonly createdAt: string;
+  readonly stopSetId: number;
+  readonly zones: number;
+  readonly stops: number;
+  readonly objectiveKm2: number;
+  readonly parent: string | null;
+  /** Manual edits made to it since it was solved. */
+  readonly edits: number;
+  readonly feasible: boolean | null;
+}
+
+/** Everything the map and the zone table need about one plan (arrays in `PlanArrays`). */
+export interface PlanView {
+  readonly info: PlanInfo;
+  readonly zones: readonly ZoneRow[];
+  readonly limits: LimitsOutcome | null;
+  /** Zone polygons as a GeoJSON FeatureCollection (properties: zone, name, ...), or null. */
+  readonly boundaries: unknown | null;
+  readonly objectiveKm2: number;
+  readonly maxMinRatio: number | null;
+  readonly demandCv: number;
+  readonly notes: readonly string[];
+  readonly distanceNote: string;
+  /** Undo and redo are possible. */
+  readonly canUndo: boolean;
+  readonly canRedo: boolean;
+}
+
+/**
+ * The stops of a plan for drawing: positions (Float32 lon, lat pairs), zone index (Int16) and
+ * demand (Float32) per stop, and which are locked (Uint8), in one ArrayBuffer with offsets.
+ */
+export interface PlanArrays {
+  readonly count: number;
+  readonly buffer: ArrayBuffer;
+  readonly lonLatOffset: number;
+  readonly zoneOffset: number;
+  readonly demandOffset: number;
+  readonly lockedOffset: number;
+}
+
+/** One stop, for its details panel. */
+export interface StopDetails {
+  readonly index: number;
+  readonly id: string;
+  readonly lon: number;
+  readonly lat: number;
+  readonly demand: number;
+  readonly zone: number;
+  readonly km: number;
+  readonly locked: boolean;
+}
+
+/** A manual edit of a plan. */
+export type PlanEdit =
+  | { readonly kind: 'move'; readonly stop: number; readonly zone: number }
+  | { readonly kind: 'lock'; readonly stop: number }
+  | { readonly kind: 'unlock'; readonly stop: number }
+  /** Move a zone's centre and pin it there (a fixed depot). */
+  | { readonly kind: 'pin-centre'; readonly zone: number; readonly lon: number; readonly lat: number };
+
+export type RunState = 'running' | 'done' | 'cancelled' | 'failed';
+
+/** A plan run under way (solving happens in a worker thread). */
+export interface RunStatus {
+  readonly id: string;
+  readonly state: RunState;
+  readonly fraction: number;
+  readonly phase: string;
+  readonly message: string | null;
+  /** The plan name it is saved under when done. */
+  readonly planName: string;
+}
+
+/** The result of an import: a stop set, or the problems that stopped it (nothing imported). */
+export type ImportOutcome =
+  | { readonly ok: true; readonly stopSet: StopSetInfo }
+  | { readonly ok: false; readonly file: string; readonly problems: readonly InputProblem[]; readonly errorCount: number };
+
+export interface ProjectInfo {
+  readonly file: string;
+  readonly stopSets: readonly StopSetInfo[];
+  readonly plans: readonly PlanInfo[];
+}
+
+/** Export targets of a plan. */
+export interface ExportRequest {
+  readonly plan: string;
+  /** 'plan': one GeoJSON with zones, centres and stops; the layers separately; the assignments CSV. */
+  readonly kind: 'plan' | 'zones' | 'centres' | 'stops' | 'assignments';
+  /** Destination path (desktop) or null (browser mode: the content is returned for download). */
+  readonly file: string | null;
+}
+
+export interface ExportResult {
+  readonly file: string | null;
+  /** The file's text when `file` was null. */
+  readonly content: string | null;
+  readonly bytes: number;
+}
+
+/**
+ * The API every front end of the map window calls. The Electron preload exposes exactly these
+ * names on window.zoneplan; browser mode implements them over HTTP.
+ */
+export interface Api {
+  /** Who answers: 'desktop' (Electron) or 'browser' (the local server). */
+  mode(): Promise<'desktop' | 'browser'>;
+  /** The open project (browser mode and the desktop app start on the bundled demo project). */
+  project(): Promise<ProjectInfo>;
+  newProject(file: string): Promise<ProjectInfo>;
+  openProject(file: string): Promise<ProjectInfo>;
+  /** Imports stops from a file on the main side, or from text (a dropped or chosen file) with its name. */
+  importStops(source: { readonly file: string } | { readonly name: string; readonly text: string }, options?: StopFileOptions): Promise<ImportOutcome>;
+  startRun(stopSetId: number, settings: RunSettings, planName: string): Promise<RunStatus>;
+  runStatus(id: string): Promise<RunStatus>;
+  cancelRun(id: string): Promise<RunStatus>;
+  plan(name: string): Promise<PlanView>;
+  planArrays(name: string): Promise<PlanArrays>;
+  /** Stop ids of a plan, in the order of its arrays. */
+  stopIds(name: string): Promise<readonly string[]>;
+  stop(plan: string, index: number): Promise<StopDetails>;
+  edit(plan: string, edit: PlanEdit): Promise<PlanView>;
+  undo(plan: string): Promise<PlanView>;
+  redo(plan: string): Promise<PlanView>;
+  renamePlan(from: string, to: string): Promise<ProjectInfo>;
+  compare(a: string, b: string): Promise<PlanComparison>;
+  rebalance(plan: string, stopSetId: number, newName: string, budget: { readonly stops: number } | { readonly demandShare: number } | null): Promise<{ readonly view: PlanView; readonly report: RebalanceReport }>;
+  sweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<readonly SweepRow[]>;
+  exportPlan(request: ExportRequest): Promise<ExportResult>;
+}
