@@ -21,3 +21,9 @@ await esbuild.build({
   sourcemap: true,
   logLevel: 'warning',
 });
+
+// The map window's bundle (renderer/) and the desktop shell (src/desktop/) have their own build
+// steps, run when their sources exist.
+const { existsSync } = await import('node:fs');
+if (existsSync('scripts/build-renderer.mjs')) await import('./build-renderer.mjs');
+if (existsSync('scripts/build-desktop.mjs')) await import('./build-desktop.mjs');
