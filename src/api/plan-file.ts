@@ -200,7 +200,8 @@ export interface BoundarySettings {
 
 /**
  * The plan with its statistics and zone boundaries, for writing or showing. Boundaries that
- * cannot be drawn (stops over more than a hemisphere) are left out with a note.
+ * cannot be drawn (stops over more than a hemisphere, or a fault in drawing them) are left out
+ * with a note; the plan itself is still there.
  */
 export function planLayers(solved: SolvedPlan, settings: BoundarySettings = {}): PlanLayers & { notes: string[] } {
   const { stops, plan } = solved;
@@ -213,15 +214,18 @@ export function planLayers(solved: SolvedPlan, settings: BoundarySettings = {}):
         ...(settings.serviceArea ? { serviceArea: settings.serviceArea } : {}),
       });
     } catch (e) {
-      if (!(e instanceof RangeError)) throw e;
-      notes.push(`zone boundaries not drawn: ${e.message}`);
+      // RangeError: stops that cannot be drawn (over a hemisphere). Any other fault in drawing
+      // (a geometry library refusing a ring) must not cost the solved plan either: it is
+      // written without zone polygons, and the note says that this is a fault to report.
+      if (!(e instanceof Error)) throw e;
+      notes.push(e instanceof RangeError ? `zone boundaries not drawn: ${e.message}` : `zone boundaries not drawn (an internal fault, please report it): ${e.message}`);
     }
   }
   const stats = planStatistics(stops.units, stops.demand, stops.lonLat, plan.centres, plan.assignment, boundaries, plan.limits?.bounds.maxDemand ?? null);
   if (boundaries && boundaries.outside.length > 0) {
     notes.push(`${boundaries.outside.length} stop${boundaries.outside.length === 1 ? ' lies' : 's lie'} in another zone's territory (locks, capacity or small detached parts); they are marked outsideZone in the stops`);
   }
-  if (boundaries && boundaries.beyondArea.length > 0) notes.push(`${boundaries.beyondArea.length} stops lie outside the service area`);
+  if (boundaries && boundaries.beyondArea.length > 0) notes.push(`${boundaries.beyondArea.length} stop${boundaries.beyondArea.length === 1 ? ' lies' : 's lie'} outside the service area (in no zone's polygon; marked outsideZone in the stops too)`);
   return { stops, plan, stats, boundaries, notes };
 }
 

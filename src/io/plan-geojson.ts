@@ -20,7 +20,7 @@ export interface PlanSummary {
   readonly seed: number | null;
   /** With workload limits: the LP lower bound at the final centres, the gap to it, whether all bounds hold. */
   readonly limits: { readonly lowerBoundKm2: number; readonly gap: number; readonly feasible: boolean } | null;
-  /** Workload spread and the stops outside their zone's territory. */
+  /** Workload spread and the stops not inside their own zone's polygon (null without boundaries). */
   readonly maxMinRatio: number | null;
   readonly demandCv: number;
   readonly stopsOutsideOwnZone: number | null;
@@ -57,15 +57,41 @@ function summary(l: PlanLayers, generator: string): PlanSummary {
   };
 }
 
-function positionsJson(ring: Position[]): string {
-  return `[${ring.map((p) => `[${deg6(p[0]!)},${deg6(p[1]!)}]`).join(',')}]`;
+/**
+ * A ring's positions as JSON text, 6 decimals, leaving out a position that rounds to the one
+ * before it (points a hair apart, such as two Voronoi vertices of four stops on a circle, become
+ * one position, which turf.kinks and GIS validators would take for a self-intersection). Null
+ * when fewer than four positions (three distinct) remain: a degenerate ring, dropped.
+ */
+function ringJson(ring: Position[]): string | null {
+  const kept: string[] = [];
+  for (const p of ring) {
+    const text = `[${deg6(p[0]!)},${deg6(p[1]!)}]`;
+    if (text !== kept[kept.length - 1]) kept.push(text);
+  }
+  // The ring stays closed: its last position rounds like its first (kept unless equal to the one before).
+  return kept.length >= 4 ? `[${kept.join(',')}]` : null;
 }
 
-/** Geometry JSON text, 6 decimals, rings wound per RFC 7946 section 3.1.6 (exterior counter-clockwise). */
-export function geometryJson(g: Polygon | MultiPolygon): string {
+/** A polygon's rings as JSON text; null when its exterior ring is degenerate (holes that are, are dropped). */
+function polygonJson(rings: Position[][]): string | null {
+  const exterior = ringJson(rings[0]!);
+  if (exterior === null) return null;
+  const holes = rings.slice(1).map(ringJson).filter((h): h is string => h !== null);
+  return `[${[exterior, ...holes].join(',')}]`;
+}
+
+/**
+ * Geometry JSON text, 6 decimals, rings wound per RFC 7946 section 3.1.6 (exterior counter-clockwise),
+ * without repeated positions or degenerate rings ("null" if nothing is left). With `multi`, a
+ * Polygon is written as a MultiPolygon of one polygon, for layers of one geometry type.
+ */
+export function geometryJson(g: Polygon | MultiPolygon, multi = false): string {
   const wound = rewind(structuredClone(g) as Geometry, false) as Polygon | MultiPolygon;
-  if (wound.type === 'Polygon') return `{"type":"Polygon","coordinates":[${wound.coordinates.map(positionsJson).join(',')}]}`;
-  return `{"type":"MultiPolygon","coordinates":[${wound.coordinates.map((rings) => `[${rings.map(positionsJson).join(',')}]`).join(',')}]}`;
+  const polygons = (wound.type === 'Polygon' ? [wound.coordinates] : wound.coordinates).map(polygonJson).filter((p): p is string => p !== null);
+  if (polygons.length === 0) return 'null';
+  if (wound.type === 'Polygon' && !multi) return `{"type":"Polygon","coordinates":${polygons[0]!}}`;
+  return `{"type":"MultiPolygon","coordinates":[${polygons.join(',')}]}`;
 }
 
 function* zoneFeatures(l: PlanLayers, role: boolean): Generator<string> {
@@ -73,7 +99,10 @@ function* zoneFeatures(l: PlanLayers, role: boolean): Generator<string> {
   for (const z of l.stats.zones) {
     const g = l.boundaries.zones[z.zone];
     const props = { ...(role ? { role: 'zone' } : {}), ...zoneProperties(l.plan, z) };
-    yield `{"type":"Feature","geometry":${g ? geometryJson(g) : 'null'},"properties":${JSON.stringify(props)}}`;
+    // The zones layer (no role) has one geometry type, as GIS layers want: every zone a
+    // MultiPolygon (RFC 7946 section 3.1.7), a Polygon being one of one. The plan file mixes
+    // geometry types anyway (zones, centres, stops) and keeps each zone's own type.
+    yield `{"type":"Feature","geometry":${g ? geometryJson(g, !role) : 'null'},"properties":${JSON.stringify(props)}}`;
   }
 }
 
@@ -88,8 +117,10 @@ function* stopFeatures(l: PlanLayers, role: boolean): Generator<string> {
   const { ids, lonLat, demand } = l.stops;
   const { assignment, locked, zoneIds } = l.plan;
   const km = l.stats.stopKm;
+  // "outsideZone": not inside its own zone's polygon, in another zone's territory or outside the
+  // service area (the stops counted in the plan's stopsOutsideOwnZone).
   const outside = new Uint8Array(ids.length);
-  if (l.boundaries) for (const i of l.boundaries.outside) outside[i] = 1;
+  for (const i of l.stats.outsideOwnZoneStops) outside[i] = 1;
   const head = role ? '"role":"stop",' : '';
   let buffer = '';
   for (let i = 0; i < ids.length; i++) {

@@ -6,6 +6,8 @@ import { ProblemLog, fileError, showValue } from './problems.js';
 import type { StopSet } from './stopset.js';
 import { unitFromLonLat } from '../geo/unit.js';
 import type { Plan } from '../solve/plan.js';
+import type { LimitsReport } from '../solve/limited.js';
+import type { ZoneViolation } from '../solve/capacity.js';
 
 /** A plan read back from a Zoneplan plan file: its stops, the plan, and the zone polygons drawn. */
 export interface PlanFile {
@@ -23,7 +25,7 @@ interface Feature {
 
 /**
  * Reads a plan file written by Zoneplan (`zoneplan plan --out`): stops (role "stop", with zone,
- * demand and the locked flag), zone centres (role "centre": zone, name, fixed) and zone polygons
+ * demand and the locked flag), zone centres (role "centre": zone, name, fixed, capacity) and zone polygons
  * (role "zone"). Positions come back as written (6 decimals), zones and demand exactly, so a plan
  * survives the round trip. Throws ImportError naming the feature and field for anything amiss.
  */
@@ -43,6 +45,7 @@ export function readPlanFile(file: string): PlanFile {
   const names: (string | null)[] = [];
   const fixed: boolean[] = [];
   const centres: number[] = [];
+  const capacity: number[] = [];
   const zoneAt = new Map<number, number>();
   doc.features.forEach((f, index) => {
     if (f?.properties?.role !== 'centre') return;
@@ -61,6 +64,12 @@ export function readPlanFile(file: string): PlanFile {
     names.push(typeof f.properties.name === 'string' ? f.properties.name : null);
     fixed.push(f.properties.fixed === true);
     centres.push(...unitFromLonLat(c[0], c[1]));
+    // The zone's capacity (the writer's "capacity": its upper demand bound, null for none).
+    const cap = f.properties.capacity ?? null;
+    if (cap !== null && !(typeof cap === 'number' && cap >= 0 && Number.isFinite(cap))) {
+      log.error({ code: 'bad-capacity', feature: index, field: 'properties.capacity', value: showValue(cap), message: 'a zone capacity must be a number >= 0, or null for none' });
+    }
+    capacity.push(typeof cap === 'number' ? cap : Infinity);
   });
   if (labels.length === 0 && log.ok) log.error({ code: 'no-centres', message: 'the file has no zone centres (features with role "centre"): is it a Zoneplan plan file?' });
   // The zone of every stop, in the order the stop reader kept them.
@@ -91,6 +100,7 @@ export function readPlanFile(file: string): PlanFile {
   let fixedZones = 0;
   while (fixedZones < fixed.length && fixed[fixedZones]) fixedZones++;
   const summary = doc.plan ?? {};
+  const limits = capacityLimits(capacity, assignment, stops.demand, summary.limits);
   const plan: Plan = {
     zoneIds: labels,
     zoneNames: names,
@@ -102,8 +112,45 @@ export function readPlanFile(file: string): PlanFile {
     settings: { zones: labels.length, ...(typeof summary.seed === 'number' ? { seed: summary.seed } : {}) },
     fixedZones,
     locked: anyLocked ? locked : null,
-    limits: null,
-    limitSettings: null,
+    limits,
+    // Continuing from the plan (rebalance) keeps the capacities as its limits.
+    limitSettings: limits ? { capacity } : null,
   };
   return { stops, plan, zones };
+}
+
+/**
+ * The workload limits of a re-imported plan: the zones' capacities (Infinity where a zone has
+ * none; null when none has), with the LP bound and gap from the file's plan summary. The file
+ * keeps only capacities, so other limits (balance, stop counts) do not come back. Breaches are
+ * worked out again from the stops' zones and demand (the solver's tolerance, 1e-9 of the scale).
+ */
+function capacityLimits(capacity: number[], assignment: Int32Array, demand: Float64Array, written: unknown): LimitsReport | null {
+  if (!capacity.some((c) => Number.isFinite(c))) return null;
+  const k = capacity.length;
+  const load = new Float64Array(k);
+  let total = 0;
+  for (let i = 0; i < assignment.length; i++) {
+    load[assignment[i]!]! += demand[i]!;
+    total += demand[i]!;
+  }
+  const tol = 1e-9 * Math.max(1, total);
+  const violations: ZoneViolation[] = [];
+  capacity.forEach((c, j) => {
+    if (load[j]! > c + tol) violations.push({ zone: j, kind: 'over-demand', load: load[j]!, bound: c, by: load[j]! - c });
+  });
+  const w = (written && typeof written === 'object' ? written : {}) as Record<string, unknown>;
+  const lowerBound = typeof w.lowerBoundKm2 === 'number' ? w.lowerBoundKm2 : Number.NaN;
+  return {
+    bounds: { maxDemand: Float64Array.from(capacity), minDemand: new Float64Array(k), maxStops: new Float64Array(k).fill(Infinity), minStops: new Float64Array(k) },
+    lpObjectiveKm2: lowerBound,
+    lowerBoundKm2: lowerBound,
+    gap: typeof w.gap === 'number' ? w.gap : Number.NaN,
+    feasible: violations.length === 0 && w.feasible !== false,
+    violations,
+    split: 0,
+    repaired: 0,
+    blocked: Number.isNaN(lowerBound),
+    notes: [],
+  };
 }

@@ -1,24 +1,28 @@
 import { bboxPolygon, featureCollection, intersect, polygon as turfPolygon } from '@turf/turf';
 import type { MultiPolygon, Polygon, Position } from 'geojson';
 
-/** Makes a ring's longitudes continuous (no step over 180 degrees), starting near `ref`. */
+/**
+ * Makes a ring's longitudes continuous (no step over 180 degrees), starting near `ref`.
+ * Each longitude is its own value plus a whole number of turns (lon + shift, computed once per
+ * position): adjusting an already shifted value (lon - 360) would round differently from
+ * lon + (shift - 360), so a ring that crosses 180 and comes back could end one ulp away from its
+ * start, which turf rejects ("First and last Position are not equivalent"). A closed ring is
+ * closed again with a copy of its first position.
+ */
 function unwrap(ring: Position[], ref: number): Position[] {
   const out: Position[] = [];
   let shift = Math.round((ref - ring[0]![0]!) / 360) * 360;
   let prev = ring[0]![0]! + shift;
   for (const p of ring) {
-    let lon = p[0]! + shift;
-    while (lon - prev > 180) {
-      lon -= 360;
-      shift -= 360;
-    }
-    while (prev - lon > 180) {
-      lon += 360;
-      shift += 360;
-    }
+    while (p[0]! + shift - prev > 180) shift -= 360;
+    while (prev - (p[0]! + shift) > 180) shift += 360;
+    const lon = p[0]! + shift;
     out.push([lon, p[1]!]);
     prev = lon;
   }
+  const first = ring[0]!;
+  const last = ring[ring.length - 1]!;
+  if (ring.length > 1 && first[0] === last[0] && first[1] === last[1]) out[out.length - 1] = [out[0]![0]!, out[0]![1]!];
   return out;
 }
 

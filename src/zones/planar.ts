@@ -43,12 +43,21 @@ export function bufferConvex(hull: ArrayLike<number>, r: number, stepRad = Math.
     const ny = hull[2 * ((i + 1) % n) + 1]!;
     // Outward normals of the edges into and out of this corner (counter-clockwise: outward is right).
     const a0 = Math.atan2(-(cx - px), cy - py);
-    let a1 = Math.atan2(-(nx - cx), ny - cy);
-    if (n === 2) a1 = a0 + Math.PI; // a stadium: half a circle at each end
-    while (a1 < a0) a1 += 2 * Math.PI;
-    const steps = Math.max(1, Math.ceil((a1 - a0) / stepRad));
+    // The turn at this corner, 0..pi on a convex counter-clockwise hull; a stadium turns by half
+    // a circle at each end. A hull may keep points on a straight edge (d3-delaunay does): there
+    // the turn is 0, or a hair below it, which must not become a full circle.
+    let turn = Math.atan2(-(nx - cx), ny - cy) - a0;
+    while (turn > Math.PI) turn -= 2 * Math.PI;
+    while (turn <= -Math.PI) turn += 2 * Math.PI;
+    if (n === 2) turn = Math.PI;
+    if (turn < 1e-12) {
+      // No turn: one offset point (emitting the arc's two ends would repeat it).
+      out.push(cx + r * Math.cos(a0), cy + r * Math.sin(a0));
+      continue;
+    }
+    const steps = Math.ceil(turn / stepRad);
     for (let s = 0; s <= steps; s++) {
-      const a = a0 + ((a1 - a0) * s) / steps;
+      const a = a0 + (turn * s) / steps;
       out.push(cx + r * Math.cos(a), cy + r * Math.sin(a));
     }
   }

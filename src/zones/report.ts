@@ -28,8 +28,24 @@ export interface PlanStatistics {
   /** Largest zone demand over the smallest (Infinity with an empty zone), and the coefficient of variation. */
   readonly maxMinRatio: number;
   readonly demandCv: number;
-  /** Stops that lie in another zone's territory (counted only with boundaries). */
+  /**
+   * Stops not inside their own zone's polygon (counted only with boundaries): those in another
+   * zone's territory (Boundaries.outside) and those outside the service area altogether
+   * (Boundaries.beyondArea), each once.
+   */
   readonly outsideOwnZone: number;
+  /** The stops counted in outsideOwnZone, by stop index in ascending order (empty without boundaries). */
+  readonly outsideOwnZoneStops: Int32Array;
+}
+
+/** Stops not inside their own zone's polygon: the union of outside and beyondArea, ascending. */
+function notInOwnZone(boundaries: Boundaries, n: number): Int32Array {
+  const mark = new Uint8Array(n);
+  for (const i of boundaries.outside) mark[i] = 1;
+  for (const i of boundaries.beyondArea) mark[i] = 1;
+  const out: number[] = [];
+  for (let i = 0; i < n; i++) if (mark[i]) out.push(i);
+  return Int32Array.from(out);
 }
 
 /** Nearest-rank percentile of sorted values (p in 0..1). */
@@ -42,7 +58,7 @@ function percentile(sorted: Float64Array, p: number): number {
 /**
  * Zone statistics of a plan: the per-zone figures (src/zones/stats.ts) plus share, utilisation,
  * median / 90th percentile / RMS km, area, compactness and bounding box; plan-wide workload
- * spread and the stops outside their zone's territory. Pure.
+ * spread and the stops not inside their own zone's polygon. Pure.
  */
 export function planStatistics(
   units: Float64Array,
@@ -103,6 +119,7 @@ export function planStatistics(
   let ss = 0;
   for (const d of demands) ss += (d - mean) ** 2;
   const min = Math.min(...demands);
+  const notInOwn = boundaries ? notInOwnZone(boundaries, n) : new Int32Array(0);
   return {
     zones,
     stopKm: base.stopKm,
@@ -110,6 +127,7 @@ export function planStatistics(
     totalDemand: base.totalDemand,
     maxMinRatio: min > 0 ? Math.max(...demands) / min : Infinity,
     demandCv: mean > 0 ? Math.sqrt(ss / Math.max(1, k)) / mean : 0,
-    outsideOwnZone: boundaries ? boundaries.outside.length : 0,
+    outsideOwnZone: notInOwn.length,
+    outsideOwnZoneStops: notInOwn,
   };
 }
