@@ -30,38 +30,63 @@ export function explainWriteError(target: string, e: unknown): WriteError {
   return new WriteError(`cannot write ${target}: ${why}; nothing was written there`, target, code);
 }
 
+/** The file-system calls writeFileAtomic makes; a test passes failing ones (disk full, ...). */
+export interface AtomicFs {
+  openSync(path: string, flags: string): number;
+  writeSync(fd: number, data: Uint8Array): number;
+  fsyncSync(fd: number): void;
+  closeSync(fd: number): void;
+  renameSync(from: string, to: string): void;
+  unlinkSync(path: string): void;
+}
+
+const NODE_FS: AtomicFs = { openSync, writeSync: (fd, data) => writeSync(fd, data), fsyncSync, closeSync, renameSync, unlinkSync };
+
 /**
  * Writes a file all or nothing: the chunks go to a temporary file beside the target, which is
  * flushed to disk and then renamed over the target. A failure (disk full, read-only place, a
  * throwing chunk producer) removes the temporary file and leaves any old target as it was.
  */
-export function writeFileAtomic(target: string, chunks: Iterable<string> | string): void {
+export function writeFileAtomic(target: string, chunks: Iterable<string> | string, fs: AtomicFs = NODE_FS): void {
   const dir = path.dirname(path.resolve(target));
   const temp = path.join(dir, `.${path.basename(target)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
   let fd: number | null = null;
   try {
-    fd = openSync(temp, 'wx');
-    if (typeof chunks === 'string') writeSync(fd, chunks);
-    else for (const chunk of chunks) if (chunk.length > 0) writeSync(fd, chunk);
-    fsyncSync(fd);
-    closeSync(fd);
+    fd = fs.openSync(temp, 'wx');
+    if (typeof chunks === 'string') writeAll(fs, fd, chunks);
+    else for (const chunk of chunks) if (chunk.length > 0) writeAll(fs, fd, chunk);
+    fs.fsyncSync(fd);
+    fs.closeSync(fd);
     fd = null;
-    renameSync(temp, target);
+    fs.renameSync(temp, target);
   } catch (e) {
     if (fd !== null) {
       try {
-        closeSync(fd);
+        fs.closeSync(fd);
       } catch {
         /* already failing; the original error is the one to report */
       }
     }
     try {
-      unlinkSync(temp);
+      fs.unlinkSync(temp);
     } catch {
       /* the temporary file may never have been created */
     }
     if (e instanceof WriteError) throw e;
     if ((e as NodeJS.ErrnoException)?.code) throw explainWriteError(target, e);
     throw e;
+  }
+}
+
+/**
+ * writeSync may write fewer bytes than asked (a full disk can take part of a chunk before it
+ * fails, a pipe or network file system takes what fits); the rest is written until all is.
+ */
+function writeAll(fs: AtomicFs, fd: number, text: string): void {
+  let buf = Buffer.from(text, 'utf8');
+  while (buf.length > 0) {
+    const n = fs.writeSync(fd, buf);
+    if (!(n > 0)) throw Object.assign(new Error('write made no progress'), { code: 'EIO' });
+    buf = buf.subarray(n);
   }
 }

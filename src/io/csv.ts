@@ -2,7 +2,7 @@ import Papa from 'papaparse';
 import { ImportError, ProblemLog, fileError, showValue } from './problems.js';
 import { readNumber } from './numbers.js';
 import { StopCollector, type StopSet } from './stopset.js';
-import { FIELD_NAMES, pickField, type FieldChoice } from './fields.js';
+import { FIELD_NAMES, MAX_ID_LENGTH, pickField, type FieldChoice } from './fields.js';
 
 export type Delimiter = ',' | ';' | '\t';
 
@@ -35,11 +35,16 @@ const DELIMITER_NAME: Record<Delimiter, string> = { ',': 'comma', ';': 'semicolo
  * (as a spreadsheet counts it, header = row 1), the column and the value.
  */
 export function parseStopsCsv(text: string, file: string, options: CsvOptions = {}): StopSet {
-  const body = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
+  let body = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
   if (body.trim() === '') throw fileError(file, 'empty-file', 'the file is empty: it needs a header row (e.g. id,lat,lon,demand) and one row per stop');
+  // Excel's "sep=;" first line names the delimiter; it is not the header. Rows keep counting it.
+  const sep = excelSepLine(body);
+  if (sep) body = body.slice(sep.length);
+  const rowOffset = sep ? 1 : 0;
+  body = oneKindOfLineBreak(body);
   const firstBreak = body.search(/\r?\n|\r/);
   const headerLine = firstBreak < 0 ? body : body.slice(0, firstBreak);
-  const delimiter = options.delimiter ?? detectDelimiter(headerLine);
+  const delimiter = options.delimiter ?? sep?.delimiter ?? detectDelimiter(headerLine);
   const log = new ProblemLog(file);
 
   let header: string[] | null = null;
@@ -48,7 +53,7 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
   let idAt = -1;
   let demandAt = -1;
   let collector: StopCollector | null = null;
-  let row = 0;
+  let row = rowOffset;
   let emptyRows = 0;
   let lastRowEmpty = false;
   let decimalCommas = 0;
@@ -62,7 +67,7 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
     const lon = pickField(header, 'lon', options.lon);
     const id = pickField(header, 'id', options.id);
     const demand = options.demand === null ? -1 : pickField(header, 'demand', options.demand);
-    const columns = header.length > 0 ? header.map((h) => `"${h}"`).join(', ') : '(none)';
+    const columns = listColumns(header);
     for (const [role, got] of [['latitude', lat], ['longitude', lon], ['id', id], ['demand', demand]] as const) {
       if (typeof got === 'object') need.push({ field: got.missing, message: `the ${role} column "${got.missing}" was asked for but the header has only ${columns}` });
     }
@@ -72,7 +77,7 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
       const hint = header.length <= 1 ? ` (only one column was found with the ${DELIMITER_NAME[delimiter]} delimiter; Zoneplan reads comma-, semicolon- or tab-separated files)` : '';
       headerProblem = new ImportError(
         file,
-        need.map((n) => ({ severity: 'error' as const, file, code: 'header', row: 1, ...(n.field !== undefined ? { field: n.field } : {}), message: n.message + hint })),
+        need.map((n) => ({ severity: 'error' as const, file, code: 'header', row: 1 + rowOffset, ...(n.field !== undefined ? { field: n.field } : {}), message: n.message + hint })),
       );
       return;
     }
@@ -83,13 +88,29 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
     collector = new StopCollector(log, 'row');
   };
 
-  const onRow = (cells: string[]): void => {
+  const onRow = (cells: string[], unclosedQuote: boolean): void => {
     row++;
-    if (row === 1) {
+    if (row === 1 + rowOffset) {
+      if (unclosedQuote) {
+        headerProblem = fileError(file, 'unclosed-quote', `a double quote in the header is never closed, so the whole file was read as the header; close the quote or remove it`, { row });
+        return;
+      }
       onHeader(cells);
       return;
     }
     if (headerProblem || !collector || !header) return;
+    if (unclosedQuote) {
+      // Papaparse read everything from the open quote to the end of the file into one cell.
+      const at = cells.length - 1;
+      log.error({
+        code: 'unclosed-quote',
+        row,
+        field: header[at] ?? `column ${at + 1}`,
+        value: showValue(cells[at] ?? ''),
+        message: 'a double quote in this cell is never closed, so the rest of the file was read into it; close the quote (a quote inside a quoted cell is written "") or remove it',
+      });
+      return;
+    }
     if (cells.every((c) => c.trim() === '')) {
       emptyRows++;
       lastRowEmpty = true;
@@ -97,6 +118,19 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
     }
     lastRowEmpty = false;
     let bad = false;
+    // More cells than header columns: a cell split in two (e.g. 52,5 in a comma file) would shift
+    // every value after it. Empty trailing cells (a spreadsheet's extra delimiters) are harmless.
+    for (let at = header.length; at < cells.length; at++) {
+      if (cells[at]!.trim() === '') continue;
+      log.error({
+        code: 'extra-cells',
+        row,
+        field: `column ${at + 1}`,
+        value: showValue(cells[at]!),
+        message: `the row has ${cells.length} cells but the header only ${header.length} columns${delimiter === ',' ? ' (a decimal comma such as 52,5 in a comma-separated file splits a number in two: use a decimal point, quote the cell, or save the file with semicolons)' : ''}`,
+      });
+      return; // the cells after the split are shifted: checking them would only mislead
+    }
     const coordinate = (at: number, name: string, lo: number, hi: number): number => {
       const raw = cells[at];
       const field = header![at]!;
@@ -146,6 +180,9 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
       if (id === '') {
         log.error({ code: 'missing-id', row, field: header[idAt]!, message: 'id is empty: every stop needs an id (or leave the id column out to number stops by row)' });
         bad = true;
+      } else if (id.length > MAX_ID_LENGTH) {
+        log.error({ code: 'long-id', row, field: header[idAt]!, value: showValue(id), message: `id is ${id.length} characters long; ids are at most ${MAX_ID_LENGTH}` });
+        bad = true;
       }
     }
     if (!bad) collector.add(id, lon, lat, demand, row);
@@ -155,7 +192,7 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
     delimiter,
     header: false,
     skipEmptyLines: false,
-    step: (result) => onRow(result.data),
+    step: (result) => onRow(result.data, result.errors.some((e) => e.code === 'MissingQuotes')),
   });
 
   if (headerProblem) throw headerProblem;
@@ -175,6 +212,31 @@ export function parseStopsCsv(text: string, file: string, options: CsvOptions = 
     lon: h[lonAt]!,
     demand: demandAt >= 0 ? h[demandAt]! : null,
   });
+}
+
+/**
+ * Papaparse takes the line break of the first line for the whole file, so a file that mixes
+ * CRLF, LF and CR (rows pasted together from different systems) would have rows run together
+ * into cells. Such a file gets LF everywhere; one kind of line break is left as it is.
+ */
+export function oneKindOfLineBreak(body: string): string {
+  const crlf = body.includes('\r\n');
+  const lf = /(^|[^\r])\n/.test(body);
+  const cr = /\r(?!\n)/.test(body);
+  return Number(crlf) + Number(lf) + Number(cr) > 1 ? body.replace(/\r\n?/g, '\n') : body;
+}
+
+/** Excel's first line "sep=X" (X one of , ; tab), with its line break. */
+export function excelSepLine(body: string): { length: number; delimiter: Delimiter } | null {
+  const m = /^sep=([,;\t])[ ]*(\r\n|\n|\r)/i.exec(body);
+  return m ? { length: m[0].length, delimiter: m[1] as Delimiter } : null;
+}
+
+/** Header names for a message: escaped, at most 12 of them (a binary or one-line file has thousands). */
+export function listColumns(header: readonly string[]): string {
+  if (header.length === 0) return '(none)';
+  const shown = header.slice(0, 12).map((h) => `"${showValue(h)}"`).join(', ');
+  return header.length > 12 ? `${shown}, ... (${header.length} columns)` : shown;
 }
 
 function looksDms(s: string): boolean {

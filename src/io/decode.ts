@@ -4,6 +4,8 @@ export interface DecodedText {
   readonly encoding: 'utf-8' | 'utf-16le' | 'utf-16be' | 'windows-1252';
   /** Set when the bytes were not valid UTF-8 and were read as Windows-1252 instead. */
   readonly fallbackAt?: { line: number; byte: number };
+  /** Set when the file had no byte order mark but its bytes are plainly UTF-16 (see utf16WithoutBom). */
+  readonly noBom?: true;
 }
 
 /**
@@ -16,15 +18,10 @@ export function decodeText(bytes: Uint8Array): DecodedText {
     return { text: new TextDecoder('utf-8').decode(bytes.subarray(3)), encoding: 'utf-8' };
   }
   if (bytes[0] === 0xff && bytes[1] === 0xfe) return { text: new TextDecoder('utf-16le').decode(bytes.subarray(2)), encoding: 'utf-16le' };
-  if (bytes[0] === 0xfe && bytes[1] === 0xff) {
-    const body = bytes.subarray(2);
-    const swapped = new Uint8Array(body.length - (body.length % 2));
-    for (let i = 0; i + 1 < body.length; i += 2) {
-      swapped[i] = body[i + 1]!;
-      swapped[i + 1] = body[i]!;
-    }
-    return { text: new TextDecoder('utf-16le').decode(swapped), encoding: 'utf-16be' };
-  }
+  if (bytes[0] === 0xfe && bytes[1] === 0xff) return { text: new TextDecoder('utf-16le').decode(swapPairs(bytes.subarray(2))), encoding: 'utf-16be' };
+  const bomless = utf16WithoutBom(bytes);
+  if (bomless === 'utf-16le') return { text: new TextDecoder('utf-16le').decode(bytes), encoding: 'utf-16le', noBom: true };
+  if (bomless === 'utf-16be') return { text: new TextDecoder('utf-16le').decode(swapPairs(bytes)), encoding: 'utf-16be', noBom: true };
   try {
     return { text: new TextDecoder('utf-8', { fatal: true }).decode(bytes), encoding: 'utf-8' };
   } catch {
@@ -33,6 +30,36 @@ export function decodeText(bytes: Uint8Array): DecodedText {
     for (let i = 0; i < byte; i++) if (bytes[i] === 10) line++;
     return { text: decodeWindows1252(bytes), encoding: 'windows-1252', fallbackAt: { line, byte } };
   }
+}
+
+function swapPairs(body: Uint8Array): Uint8Array {
+  const swapped = new Uint8Array(body.length - (body.length % 2));
+  for (let i = 0; i + 1 < body.length; i += 2) {
+    swapped[i] = body[i + 1]!;
+    swapped[i + 1] = body[i]!;
+  }
+  return swapped;
+}
+
+/**
+ * UTF-16 without a byte order mark, as some exports write it: text of mostly ASCII characters has
+ * a zero byte in every other place (the high byte of each code unit), which UTF-8 or Windows-1252
+ * text of a stops file never has. Judged on the first 4 KB: at least 90% of the odd (LE) or even
+ * (BE) bytes zero and at most 5% of the others (thresholds chosen by us, no source).
+ */
+export function utf16WithoutBom(bytes: Uint8Array): 'utf-16le' | 'utf-16be' | null {
+  const n = Math.min(bytes.length, 4096) & ~1;
+  if (n < 8) return null;
+  let zeroEven = 0;
+  let zeroOdd = 0;
+  for (let i = 0; i < n; i += 2) {
+    if (bytes[i] === 0) zeroEven++;
+    if (bytes[i + 1] === 0) zeroOdd++;
+  }
+  const pairs = n / 2;
+  if (zeroOdd >= 0.9 * pairs && zeroEven <= 0.05 * pairs) return 'utf-16le';
+  if (zeroEven >= 0.9 * pairs && zeroOdd <= 0.05 * pairs) return 'utf-16be';
+  return null;
 }
 
 /**

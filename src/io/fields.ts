@@ -7,6 +7,9 @@ export interface FieldChoice {
   readonly demand?: string | null;
 }
 
+/** Longest stop id accepted: a longer one is a broken file (an unclosed quote, a pasted blob), not an id. Chosen by us. */
+export const MAX_ID_LENGTH = 1000;
+
 /** Usual names, compared without case, spaces, underscores or hyphens. */
 export const FIELD_NAMES = {
   lat: ['lat', 'latitude', 'y', 'latdeg', 'latitudedeg', 'latwgs84', 'stoplat', 'geolat'],

@@ -1,7 +1,7 @@
 import * as GJV from 'geojson-validation';
 import { ProblemLog, fileError, showValue } from './problems.js';
 import { StopCollector, type StopSet } from './stopset.js';
-import { FIELD_NAMES, normaliseName, type FieldChoice } from './fields.js';
+import { FIELD_NAMES, MAX_ID_LENGTH, normaliseName, type FieldChoice } from './fields.js';
 
 export type GeoJsonOptions = FieldChoice;
 
@@ -16,6 +16,32 @@ function lineColumn(text: string, offset: number): string {
     }
   }
   return `line ${line}, column ${offset - last}`;
+}
+
+/**
+ * "the file is not valid JSON at line 3, column 1: unexpected ']'" from a JSON.parse error. V8
+ * gives a position for most errors; for an unexpected token it quotes the text around it
+ * instead ('Unexpected token \']\', ..." 52.5]}},\n]}" is not valid JSON', up to 10 characters
+ * before the token after the "..."), which is found in the text again. The quoted file text is
+ * not repeated (it may hold line breaks and control characters).
+ */
+export function describeJsonError(body: string, e: unknown): string {
+  const msg = e instanceof Error ? e.message : String(e);
+  const at = /at position (\d+)/.exec(msg);
+  const token = /^Unexpected token '([\s\S]+?)', (\.\.\.)?"([\s\S]*?)"(\.\.\.)? is not valid JSON$/.exec(msg);
+  let offset: number | null = at ? Number(at[1]) : null;
+  let what = msg.replace(/ in JSON at position \d+.*$/, '').replace(/ after JSON at position \d+.*$/, ' after the JSON value').replace(/^JSON\.parse: /, '');
+  if (token) {
+    const [, ch, prefix, snippet] = token;
+    const start = body.indexOf(snippet!);
+    if (start >= 0) offset = start + (prefix ? Math.min(10, snippet!.length) : Math.max(0, snippet!.indexOf(ch!)));
+    what = `unexpected ${JSON.stringify(ch)}${ch === 'N' || ch === 'I' ? ' (NaN and Infinity are not JSON numbers)' : ''}`;
+  } else if (/Unexpected end of JSON input/.test(msg)) {
+    offset = body.length;
+    what = 'the file ends before the JSON does (cut off?)';
+  }
+  const where = offset === null ? '' : ` at ${lineColumn(body, offset)}`;
+  return `the file is not valid JSON${where}: ${what.charAt(0).toLowerCase()}${what.slice(1)}`;
 }
 
 /** Finds a property by the user's name or the usual names (case, spaces and underscores ignored). */
@@ -47,10 +73,7 @@ export function parseStopsGeoJson(text: string, file: string, options: GeoJsonOp
   try {
     doc = JSON.parse(body);
   } catch (e) {
-    const msg = e instanceof Error ? e.message : String(e);
-    const at = /position (\d+)/.exec(msg);
-    const where = at ? ` at ${lineColumn(body, Number(at[1]))}` : '';
-    throw fileError(file, 'invalid-json', `the file is not valid JSON${where}: ${msg.replace(/^.*?JSON[^:]*:\s*/, '')}`);
+    throw fileError(file, 'invalid-json', describeJsonError(body, e));
   }
   if (typeof doc !== 'object' || doc === null || Array.isArray(doc)) {
     throw fileError(file, 'not-feature-collection', 'the file must hold a GeoJSON object of type "FeatureCollection"');
@@ -82,7 +105,16 @@ export function parseStopsGeoJson(text: string, file: string, options: GeoJsonOp
   for (let index = 0; index < features.length; index++) {
     const f: unknown = features[index];
     if (!isObject(f) || f.type !== 'Feature') {
-      log.error({ code: 'not-feature', feature: index, field: 'type', value: showValue(isObject(f) ? (f.type ?? null) : f), message: 'each member of "features" must be a Feature object' });
+      const nested = isObject(f) && f.type === 'FeatureCollection';
+      log.error({
+        code: 'not-feature',
+        feature: index,
+        field: 'type',
+        value: showValue(isObject(f) ? (f.type ?? null) : f),
+        message: nested
+          ? 'a FeatureCollection inside "features" is not read: move its features into the top-level "features" array'
+          : 'each member of "features" must be a Feature object',
+      });
       continue;
     }
     const props = isObject(f.properties) ? f.properties : {};
@@ -107,7 +139,7 @@ export function parseStopsGeoJson(text: string, file: string, options: GeoJsonOp
     }
     const c = g.coordinates;
     if (!Array.isArray(c) || c.length < 2) {
-      const trace = GJV.isPoint(g, true);
+      const trace = pointTrace(g);
       const detail = `coordinates must be [longitude, latitude]${Array.isArray(trace) && trace.length > 0 ? ` (${trace.join('; ')})` : ''}`;
       log.error({ code: 'bad-coordinate', feature: index, field: 'geometry.coordinates', value: showValue(c ?? null), message: detail });
       continue;
@@ -156,6 +188,9 @@ export function parseStopsGeoJson(text: string, file: string, options: GeoJsonOp
     if (id === '') {
       log.error({ code: 'missing-id', feature: index, field: idKey ?? 'id', message: 'id is empty: every stop needs an id' });
       bad = true;
+    } else if (id.length > MAX_ID_LENGTH) {
+      log.error({ code: 'long-id', feature: index, field: idKey ?? 'id', value: showValue(id), message: `id is ${id.length} characters long; ids are at most ${MAX_ID_LENGTH}` });
+      bad = true;
     }
 
     let demand = 1;
@@ -188,6 +223,31 @@ export function parseStopsGeoJson(text: string, file: string, options: GeoJsonOp
     log.warn({ code: 'altitude', count: altitudes, field: 'geometry.coordinates[2]', message: `${altitudes} point${altitudes === 1 ? ' has' : 's have'} a third coordinate (altitude); it is ignored` });
   }
   return collector.finish(file, 'geojson', { id: idName, lon: 'geometry.coordinates[0]', lat: 'geometry.coordinates[1]', demand: demandName ? `properties.${demandName}` : null });
+}
+
+/**
+ * geojson-validation's reasons a Point is invalid; it recurses into the coordinates, so a
+ * pathologically nested array (thousands of levels) would overflow the stack: not asked then.
+ */
+function pointTrace(g: unknown): string[] {
+  if (nestingDepth((g as { coordinates?: unknown }).coordinates, 8) > 6) return ['arrays nested too deeply'];
+  try {
+    const t = GJV.isPoint(g, true);
+    return Array.isArray(t) ? t : [];
+  } catch {
+    return [];
+  }
+}
+
+/** Depth of nested arrays, counted up to `limit`. */
+export function nestingDepth(v: unknown, limit: number): number {
+  let depth = 0;
+  let cur = v;
+  while (Array.isArray(cur) && depth < limit) {
+    depth++;
+    cur = cur[0];
+  }
+  return depth;
 }
 
 function isObject(v: unknown): v is Record<string, unknown> {

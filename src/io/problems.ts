@@ -21,9 +21,26 @@ export interface Problem {
 /** Shortens a value for a message: long cells are cut, control characters shown escaped. */
 export function showValue(v: unknown): string {
   // JSON.stringify writes Infinity and NaN (e.g. a GeoJSON 1e999 read by JSON.parse) as "null".
-  let s = typeof v === 'string' ? v : typeof v === 'number' ? String(v) : JSON.stringify(v) ?? String(v);
+  let s: string;
+  if (typeof v === 'string') s = v.length > 200 ? v.slice(0, 200) : v;
+  else if (typeof v === 'number') s = String(v);
+  else {
+    try {
+      s = JSON.stringify(v) ?? String(v);
+    } catch {
+      s = Array.isArray(v) ? '[...]' : '{...}'; // nested too deeply for JSON.stringify
+    }
+  }
   if (s.length > 60) s = `${s.slice(0, 57)}...`;
-  return s.replace(/[\u0000-\u001f]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+  return escapeControls(s);
+}
+
+/**
+ * Control characters shown as \uXXXX: a file's text reaches the terminal in messages, and an
+ * escape sequence in a cell (ESC [ 2 J ...) must not act on it. C0, DEL, C1 and the bidi overrides.
+ */
+export function escapeControls(s: string): string {
+  return s.replace(/[\u0000-\u001f\u007f-\u009f\u202a-\u202e\u2066-\u2069]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
 }
 
 /** "file: row 12, field "lat", value "95": latitude must be ..." */
@@ -33,8 +50,9 @@ export function formatProblem(p: Problem): string {
   if (p.feature !== undefined) where.push(`feature ${p.feature}`);
   if (p.field !== undefined) where.push(`field "${p.field}"`);
   if (p.value !== undefined) where.push(`value "${p.value}"`);
+  if (p.field !== undefined) where[where.length - (p.value !== undefined ? 2 : 1)] = `field "${escapeControls(p.field)}"`;
   const head = where.length > 0 ? `${p.file}: ${where.join(', ')}` : p.file;
-  return `${p.severity}: ${head}: ${p.message}`;
+  return `${p.severity}: ${head}: ${escapeControls(p.message)}`;
 }
 
 /**

@@ -1,6 +1,6 @@
 import { unitsFromLonLat } from '../geo/unit.js';
 import { isOnLand } from '../geo/land.js';
-import type { Problem, ProblemLog } from './problems.js';
+import { showValue, type Problem, type ProblemLog } from './problems.js';
 
 /** Imported stops: ids, positions, workload, and where each came from in the file. */
 export interface StopSet {
@@ -55,8 +55,8 @@ export class StopCollector {
         code: 'duplicate-id',
         [this.where]: this.rows[i],
         field: idField,
-        value: id,
-        message: `id "${id}" is used twice: ${this.where} ${this.rows[f]} has it too; every stop needs its own id`,
+        value: showValue(id),
+        message: `id "${showValue(id)}" is used twice: ${this.where} ${this.rows[f]} has it too; every stop needs its own id`,
       });
     }
     return ok;
@@ -87,6 +87,7 @@ export class StopCollector {
     const demand = this.demand.slice(0, n);
     const rows = this.rows.slice(0, n);
     wholeSetWarnings(this.log, this.where, lonLat, demand, rows, fields);
+    formulaWarning(this.log, this.where, this.ids, rows, fields.id);
     return {
       source,
       format,
@@ -267,4 +268,31 @@ function swappedLook(lonLat: Float64Array): { sampled: number; landAsGiven: numb
   }
   if (sampled >= 3 && landAsGiven <= 0.2 * sampled && landSwapped >= 0.8 * sampled) return { sampled, landAsGiven, landSwapped };
   return null;
+}
+
+/**
+ * Ids a spreadsheet would run as a formula when a CSV written from them is opened (OWASP, "CSV
+ * Injection": cells starting with = + - @, tab or carriage return). They are kept as they are
+ * (they are the planner's ids); the warning says where they are. "-12" or "+49 30..." are numbers,
+ * not formulas, and are not flagged.
+ */
+function formulaWarning(log: ProblemLog, where: 'row' | 'feature', ids: readonly string[], rows: Int32Array, field: string | null): void {
+  const at: number[] = [];
+  let count = 0;
+  for (let i = 0; i < ids.length; i++) {
+    const id = ids[i]!;
+    const c = id.charCodeAt(0);
+    const formula = c === 61 || c === 64 || c === 9 || c === 13 || ((c === 43 || c === 45) && !/^[+-][\d\s().]*$/.test(id));
+    if (!formula) continue;
+    count++;
+    if (at.length < 8) at.push(rows[i]!);
+  }
+  if (count === 0) return;
+  log.warn({
+    code: 'formula-like-id',
+    [where]: at[0],
+    ...(field ? { field } : {}),
+    count,
+    message: `${count} id${count === 1 ? ' starts' : 's start'} like a spreadsheet formula (=, +, -, @: ${listPlaces(where, at, count)}); they are kept as text, but a spreadsheet opening an exported CSV may run them: check where these ids came from`,
+  });
 }

@@ -1,14 +1,15 @@
-import { readFileSync } from 'node:fs';
+import { readFileSync, statSync } from 'node:fs';
 import Papa from 'papaparse';
 import * as GJV from 'geojson-validation';
 import type { MultiPolygon, Polygon, Position } from 'geojson';
 import { decodeText } from './decode.js';
 import { readNumber } from './numbers.js';
-import { ProblemLog, fileError, showValue } from './problems.js';
-import { readStopsFile, formatOf } from './read.js';
-import { detectDelimiter } from './csv.js';
+import { ImportError, ProblemLog, fileError, showValue } from './problems.js';
+import { readStopsFile, formatOf, refuseBinary } from './read.js';
+import { detectDelimiter, excelSepLine, listColumns, oneKindOfLineBreak } from './csv.js';
 import { normaliseName } from './fields.js';
 import type { StopSet } from './stopset.js';
+import { describeJsonError, nestingDepth } from './geojson-stops.js';
 
 /** Fixed depots: the first zones of a plan, which keep their centres where the depots are. */
 export interface DepotSet {
@@ -25,12 +26,18 @@ export interface DepotSet {
 const CAPACITY_NAMES = ['capacity', 'cap', 'maxdemand', 'maxload', 'limit'];
 
 function readText(file: string): string {
+  let bytes: Buffer;
   try {
-    return decodeText(readFileSync(file)).text;
+    if (statSync(file).isDirectory()) throw fileError(file, 'not-a-file', 'this is a folder, not a file');
+    bytes = readFileSync(file);
   } catch (e) {
+    if (e instanceof ImportError) throw e;
     const code = (e as NodeJS.ErrnoException).code;
-    throw fileError(file, 'unreadable', code === 'ENOENT' ? 'no such file' : `cannot be read (${code ?? String(e)})`);
+    throw fileError(file, 'unreadable', code === 'ENOENT' ? 'no such file' : code === 'EACCES' ? 'permission denied' : `cannot be read (${code ?? String(e)})`);
   }
+  const text = decodeText(bytes).text;
+  refuseBinary(file, bytes, text);
+  return text;
 }
 
 /** The name of the capacity column (CSV header or first feature's properties), if any. */
@@ -44,9 +51,9 @@ function capacityField(file: string, text: string): string | null {
       return null; // the stop reader reports the JSON error
     }
   }
-  const body = text.replace(/^\uFEFF/, '');
+  const { body, delimiter } = csvBody(text);
   const firstLine = body.split(/\r?\n|\r/, 1)[0] ?? '';
-  const header = Papa.parse<string[]>(firstLine, { delimiter: detectDelimiter(firstLine) }).data[0] ?? [];
+  const header = Papa.parse<string[]>(firstLine, { delimiter }).data[0] ?? [];
   return header.map((h) => h.trim()).find((h) => CAPACITY_NAMES.includes(normaliseName(h))) ?? null;
 }
 
@@ -66,7 +73,7 @@ export function readDepotsFile(file: string): DepotSet {
     set.rows.forEach((row, i) => {
       const raw = values.get(row);
       if (raw === undefined || raw === null || (typeof raw === 'string' && raw.trim() === '')) return;
-      const cell = typeof raw === 'number' ? { ok: Number.isFinite(raw), value: raw } : readNumber(String(raw), false);
+      const cell = typeof raw === 'number' ? { ok: Number.isFinite(raw), value: raw } : readNumber(String(raw), decimalCommaAllowed(file, text));
       const where = set.format === 'csv' ? { row } : { feature: row };
       if (!cell.ok || !('value' in cell)) log.error({ code: 'bad-capacity', ...where, field: cap, value: showValue(raw), message: 'capacity must be a finite number (or empty for none)' });
       else if (cell.value < 0) log.error({ code: 'bad-capacity', ...where, field: cap, value: showValue(raw), message: 'capacity must not be negative' });
@@ -84,6 +91,15 @@ export function readDepotsFile(file: string): DepotSet {
   };
 }
 
+/** A decimal comma ("12,5") is unambiguous in a semicolon- or tab-separated CSV, as in stops files. */
+function decimalCommaAllowed(file: string, text: string): boolean {
+  if (formatOf(file, text) === 'geojson') return false;
+  const body = text.replace(/^\uFEFF/, '');
+  const sep = excelSepLine(body);
+  if (sep) return sep.delimiter !== ',';
+  return detectDelimiter(body.split(/\r?\n|\r/, 1)[0] ?? '') !== ',';
+}
+
 /** Raw capacity values by CSV row (header = 1) or GeoJSON feature index. */
 function capacityValues(file: string, text: string, field: string): Map<number, unknown> {
   const out = new Map<number, unknown>();
@@ -92,14 +108,22 @@ function capacityValues(file: string, text: string, field: string): Map<number, 
     doc.features.forEach((f, index) => out.set(index, f.properties?.[field]));
     return out;
   }
-  const body = text.replace(/^\uFEFF/, '');
-  const firstLine = body.split(/\r?\n|\r/, 1)[0] ?? '';
-  const rows = Papa.parse<string[]>(body, { delimiter: detectDelimiter(firstLine), skipEmptyLines: false }).data;
+  const { body, delimiter, offset } = csvBody(text);
+  const rows = Papa.parse<string[]>(body, { delimiter, skipEmptyLines: false }).data;
   const at = (rows[0] ?? []).map((h) => h.trim()).indexOf(field);
   rows.forEach((cells, t) => {
-    if (t > 0) out.set(t + 1, cells[at]);
+    if (t > 0) out.set(t + 1 + offset, cells[at]);
   });
   return out;
+}
+
+/** CSV text without its BOM and Excel "sep=" line, the delimiter, and the rows the sep line takes. */
+function csvBody(text: string): { body: string; delimiter: string; offset: number } {
+  let body = text.replace(/^\uFEFF/, '');
+  const sep = excelSepLine(body);
+  if (sep) body = body.slice(sep.length);
+  body = oneKindOfLineBreak(body);
+  return { body, delimiter: sep?.delimiter ?? detectDelimiter(body.split(/\r?\n|\r/, 1)[0] ?? ''), offset: sep ? 1 : 0 };
 }
 
 /** How zones are named in zone files: their number (1..K) or, for depot zones, the depot id. */
@@ -129,27 +153,34 @@ function describeZones(names: ZoneNames): string {
 
 interface Table {
   readonly header: string[];
+  /** 1 when an Excel "sep=" line comes before the header. */
+  readonly offset: number;
+  readonly delimiter: string;
   readonly rows: { row: number; cells: string[] }[];
 }
 
 function readTable(file: string): Table {
-  const text = readText(file).replace(/^\uFEFF/, '');
-  if (text.trim() === '') throw fileError(file, 'empty-file', 'the file is empty');
-  const firstLine = text.split(/\r?\n|\r/, 1)[0] ?? '';
-  const parsed = Papa.parse<string[]>(text, { delimiter: detectDelimiter(firstLine), skipEmptyLines: false });
+  const { body, delimiter, offset } = csvBody(readText(file));
+  if (body.trim() === '') throw fileError(file, 'empty-file', 'the file is empty');
+  const parsed = Papa.parse<string[]>(body, { delimiter, skipEmptyLines: false });
   const [header, ...rest] = parsed.data;
   const rows: { row: number; cells: string[] }[] = [];
   rest.forEach((cells, t) => {
     if (cells.every((c) => c.trim() === '')) return;
-    rows.push({ row: t + 2, cells });
+    rows.push({ row: t + 2 + offset, cells });
   });
-  return { header: (header ?? []).map((h) => h.trim()), rows };
+  const open = parsed.errors.find((e) => e.code === 'MissingQuotes');
+  if (open) {
+    const row = (open.row ?? 0) + 1 + offset;
+    throw fileError(file, 'unclosed-quote', 'a double quote is never closed, so the rest of the file was read into one cell; close the quote or remove it', { row });
+  }
+  return { header: (header ?? []).map((h) => h.trim()), rows, offset, delimiter };
 }
 
 function column(table: Table, file: string, usual: readonly string[], what: string): number {
   const at = table.header.findIndex((h) => usual.includes(normaliseName(h)));
   if (at < 0) {
-    throw fileError(file, 'header', `no ${what} column: name one ${usual.slice(0, 3).join(', ')}; the header has ${table.header.map((h) => `"${h}"`).join(', ') || '(none)'}`, { row: 1 });
+    throw fileError(file, 'header', `no ${what} column: name one ${usual.slice(0, 3).join(', ')}; the header has ${listColumns(table.header)}`, { row: 1 + table.offset });
   }
   return at;
 }
@@ -197,7 +228,7 @@ export function readCapacityFile(file: string, names: ZoneNames): (number | null
   for (const { row, cells } of table.rows) {
     const zone = (cells[zoneAt] ?? '').trim();
     const z = zoneIndex(zone, names);
-    const cell = readNumber(cells[capAt], false);
+    const cell = readNumber(cells[capAt], table.delimiter !== ',');
     if (z < 0) log.error({ code: 'unknown-zone', row, field: table.header[zoneAt]!, value: showValue(zone), message: `the zone must be ${describeZones(names)}` });
     else if (seenAt.has(z)) log.error({ code: 'duplicate-zone', row, field: table.header[zoneAt]!, value: showValue(zone), message: `this zone already has a capacity in row ${seenAt.get(z)}` });
     if (!cell.ok) log.error({ code: 'bad-capacity', row, field: table.header[capAt]!, value: showValue(cells[capAt] ?? ''), message: cell.reason === 'empty' ? 'capacity is empty' : 'capacity must be a finite number' });
@@ -219,7 +250,7 @@ export function readServiceAreaFile(file: string): Polygon | MultiPolygon {
   try {
     doc = JSON.parse(text);
   } catch (e) {
-    throw fileError(file, 'invalid-json', `the file is not valid JSON: ${e instanceof Error ? e.message : String(e)}`);
+    throw fileError(file, 'invalid-json', describeJsonError(text, e));
   }
   const polys: Position[][][] = [];
   const log = new ProblemLog(file);
@@ -230,9 +261,11 @@ export function readServiceAreaFile(file: string): Polygon | MultiPolygon {
       return;
     }
     const geom = g as { type?: unknown; coordinates?: unknown };
-    const trace = geom.type === 'Polygon' ? GJV.isPolygon(geom, true) : geom.type === 'MultiPolygon' ? GJV.isMultiPolygon(geom, true) : ['not a Polygon or MultiPolygon'];
+    const trace = polygonTrace(geom);
     if (Array.isArray(trace) && trace.length > 0) {
-      log.error({ code: 'not-polygon', ...where, field: 'geometry', value: showValue(geom.type ?? null), message: `a service area needs a valid Polygon or MultiPolygon: ${trace.join('; ')}` });
+      // geojson-validation lists every broken ring and position: the first few say enough.
+      const shown = `${trace.slice(0, 3).join('; ')}${trace.length > 3 ? `; ... (${trace.length} problems)` : ''}`;
+      log.error({ code: 'not-polygon', ...where, field: 'geometry', value: showValue(geom.type ?? null), message: `a service area needs a valid Polygon or MultiPolygon: ${shown.length > 600 ? `${shown.slice(0, 597)}...` : shown}` });
       return;
     }
     const list = geom.type === 'Polygon' ? [geom.coordinates as Position[][]] : (geom.coordinates as Position[][][]);
@@ -255,4 +288,20 @@ export function readServiceAreaFile(file: string): Polygon | MultiPolygon {
   if (polys.length === 0 && log.ok) log.error({ code: 'not-polygon', message: 'the file holds no polygon' });
   log.throwIfErrors();
   return polys.length === 1 ? { type: 'Polygon', coordinates: polys[0]! } : { type: 'MultiPolygon', coordinates: polys };
+}
+
+/**
+ * geojson-validation's reasons a Polygon or MultiPolygon is invalid. It recurses into the
+ * coordinates, so arrays nested far deeper than a MultiPolygon's four levels are refused first
+ * (thousands of levels would overflow the stack).
+ */
+function polygonTrace(geom: { type?: unknown; coordinates?: unknown }): string[] {
+  if (geom.type !== 'Polygon' && geom.type !== 'MultiPolygon') return ['not a Polygon or MultiPolygon'];
+  if (nestingDepth(geom.coordinates, 16) > (geom.type === 'Polygon' ? 3 : 4)) return ['the coordinates are nested too deeply'];
+  try {
+    const t = geom.type === 'Polygon' ? GJV.isPolygon(geom, true) : GJV.isMultiPolygon(geom, true);
+    return Array.isArray(t) ? t : t ? [] : ['invalid'];
+  } catch (e) {
+    return [`invalid (${e instanceof Error ? e.message : String(e)})`];
+  }
 }

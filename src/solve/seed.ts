@@ -1,4 +1,5 @@
 import type { Random } from '../util/random.js';
+import { SolveError } from './types.js';
 import { angleFromChord } from '../geo/distance.js';
 
 /** Scratch arrays of the seeding pass, sized n; reused across restarts. */
@@ -128,7 +129,9 @@ export function seedCentres(
         pick = candidate;
       }
     }
-    if (pick < 0) throw new Error('seedCentres: fewer distinct locations than zones (checked by the caller)');
+    // The caller checked that there are k distinct positions; stops closer together than about
+    // 1e-154 of the Earth's radius still look like one place here (their squared chord is 0).
+    if (pick < 0) throw new SolveError(`${k} zones asked for, but the stops sit at only ${j} locations that can be told apart: ask for at most ${j} zone${j === 1 ? '' : 's'}`, 'too-few-locations');
     setCentre(centres, j, units, pick);
     const px = centres[3 * j]!;
     const py = centres[3 * j + 1]!;

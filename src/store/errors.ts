@@ -15,7 +15,9 @@ export type ProjectErrorCode =
   | 'duplicate-name'
   | 'bad-name'
   | 'bad-edit'
-  | 'mismatch';
+  | 'mismatch'
+  | 'moved'
+  | 'read-only';
 
 /**
  * A project file that cannot be used as asked (not a project, damaged, open elsewhere, newer than

@@ -158,7 +158,17 @@ export function openDatabase(file: string, write: boolean): OpenedDatabase {
       /* the error below is the one to report */
     }
     lock?.release();
-    throw explainStoreError(file, e);
+    const why = explainStoreError(file, e);
+    if (!write && why instanceof WriteError && why.code === 'EROFS') {
+      // SQLite opens a WAL database only where it can make the -shm file beside it
+      // (https://www.sqlite.org/wal.html#readonly), so even reading needs a writable folder.
+      throw new ProjectError(
+        `${file} is on a read-only file system (a CD, a write-protected share or snapshot): a project file can only be opened in a folder that can be written to; copy it somewhere writable and open the copy`,
+        'read-only',
+        file,
+      );
+    }
+    throw why;
   }
 }
 

@@ -1,4 +1,5 @@
 import type Database from 'better-sqlite3';
+import { statSync } from 'node:fs';
 import path from 'node:path';
 import type { StopSet } from '../io/stopset.js';
 import type { SolveSettings } from '../solve/types.js';
@@ -105,6 +106,8 @@ export class ProjectStore {
   private readonly statements = new Map<string, Database.Statement>();
   private readonly idsCache = new Map<number, { ids: readonly string[]; index: Map<string, number> | null }>();
   private closed = false;
+  /** The file's identity when it was opened: a save checks that the path still leads to it. */
+  private readonly identity: { dev: number; ino: number } | null;
 
   private constructor(
     readonly file: string,
@@ -113,7 +116,9 @@ export class ProjectStore {
     private readonly migratedFrom: number | null,
     private readonly backup: string | null,
     private readonly now: () => Date,
-  ) {}
+  ) {
+    this.identity = lock ? fileIdentity(file) : null;
+  }
 
   static create(file: string, appVersion: string, now: () => Date = () => new Date()): ProjectStore {
     const o = createDatabase(file, appVersion, now());
@@ -155,6 +160,26 @@ export class ProjectStore {
 
   private needWrite(): void {
     if (!this.writable) throw new RangeError(`${this.file} is open for reading only`);
+    this.checkStillThere();
+  }
+
+  /**
+   * SQLite keeps writing to a file that was deleted, or renamed over by another, while it was
+   * open (on Linux and macOS the open descriptor still leads to the old file): every later save
+   * would "succeed" into a file nobody can open again. So a save first checks that the path
+   * still names the file that was opened, and refuses with a message otherwise. What was saved
+   * before stays readable through this connection, and the caller still has the plan.
+   */
+  private checkStillThere(): void {
+    if (!this.identity) return;
+    const now = fileIdentity(this.file);
+    if (now && now.dev === this.identity.dev && now.ino === this.identity.ino) return;
+    const what = now ? 'was replaced by another file' : 'was deleted or moved';
+    throw new ProjectError(
+      `${this.file} ${what} after it was opened here, so nothing was saved into it; the plan is still open here: save it into a new project, or put the file back and open it again`,
+      'moved',
+      this.file,
+    );
   }
 
   close(): void {
@@ -494,5 +519,14 @@ export class ProjectStore {
   zoneIds(rawPlan: string): number[] {
     const info = this.planInfo(rawPlan);
     return this.guard(() => zoneIdsOf(this.sql('SELECT zone_ids, zone_count FROM plans WHERE id = ?').get(info.id) as PlanRow));
+  }
+}
+
+function fileIdentity(file: string): { dev: number; ino: number } | null {
+  try {
+    const st = statSync(file);
+    return { dev: st.dev, ino: st.ino };
+  } catch {
+    return null;
   }
 }

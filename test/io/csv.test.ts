@@ -131,10 +131,11 @@ describe('parseStopsCsv: options', () => {
   });
 
   it('does not read decimal commas in a comma-separated file', () => {
-    // Unquoted, "48,8566" is two cells (RFC 4180 section 2.4); the row then has too many cells,
-    // and 48 and 8566 are taken as lat and lon: 8566 is out of range.
+    // Unquoted, "48,8566" is two cells (RFC 4180 section 2.4); the row then has more cells than
+    // the header, which is reported as such (its values are shifted, so they are not checked).
     const e = importError('lat,lon\n48,8566,2,3522\n');
-    expect(e.problems.map((p) => [p.code, p.row, p.field, p.value])).toEqual([['lon-range', 2, 'lon', '8566']]);
+    expect(e.problems.map((p) => [p.code, p.row, p.field, p.value])).toEqual([['extra-cells', 2, 'column 3', '2']]);
+    expect(e.problems[0]!.message).toMatch(/decimal comma/);
   });
 });
 
