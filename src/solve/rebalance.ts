@@ -62,10 +62,77 @@ export interface RebalanceResult {
  * the price of a move (a Lagrangian multiplier of the budget) by bisection: the least price at
  * which the plan stays within the budget; the plan then has the lowest distance cost among those
  * the search met within the budget. Free centres follow their zones for a few rounds; fixed ones
- * stay. When even moving only what the limits force exceeds the budget, the error names the
- * smallest budget that works.
+ * stay. A plan within the budget never breaks a limit that the plan without a budget holds.
+ * When even moving only what the limits force exceeds the budget, the error names the smallest
+ * budget the search found to work (checked by searching within it; the search is a heuristic, so
+ * "smallest" is the fewest moves it met, not a proven minimum).
  */
 export function rebalance(input: RebalanceInput, settings: RebalanceSettings): RebalanceResult {
+  const budget = settings.budget;
+  if (!budget) return search(input, settings) as RebalanceResult;
+  type Moves = { readonly moved: number; readonly movedDemand: number };
+  const measure = (m: Moves): number => ('stops' in budget ? m.moved : m.movedDemand);
+  // The plan without a budget, made when first needed: when it holds the limits and a search
+  // within the budget did not, it is the answer if it fits the budget, else it names a budget
+  // that works.
+  const { budget: _budget, ...unbudgeted } = settings;
+  let free: RebalanceResult | null = null;
+  const freePlan = (): RebalanceResult | null => {
+    free ??= search(input, unbudgeted) as RebalanceResult;
+    return !free.limits || free.limits.feasible ? free : null;
+  };
+  const attempt = (b: MoveBudget): RebalanceResult | TooSmall => {
+    const r = search(input, { ...settings, budget: b });
+    if (!('tooSmall' in r) && (!r.limits || r.limits.feasible)) return r;
+    const f = freePlan();
+    if (!f) return r; // the limits cannot be held even without a budget: the best effort, or too small
+    if ('stops' in b ? f.moved <= b.stops : f.movedDemand <= b.demandShare * sum(input.demand) * (1 + 1e-12)) return { ...f, budget: b };
+    // Too small: the fewer moves of what the search met and of the plan without a budget.
+    const byFree: TooSmall = { tooSmall: { moved: f.moved, movedDemand: f.movedDemand }, totalDemand: sum(input.demand) };
+    return 'tooSmall' in r && measure(r.tooSmall) <= measure(byFree.tooSmall) ? r : byFree;
+  };
+  const first = attempt(budget);
+  if (!('tooSmall' in first)) return first;
+  // The budget is too small. Name one that works: the fewest moves the search met, raised until
+  // a search within it finds a plan (as typed, a percentage rounded up, and as the exact demand);
+  // failing that, the moves of the plan without a budget (which then fits).
+  const totalDemand = first.totalDemand;
+  let need: Moves = first.tooSmall;
+  let works = false;
+  for (let tries = 0; tries < 8 && !works; tries++) {
+    const asked: MoveBudget[] = 'stops' in budget ? [{ stops: need.moved }] : [{ demandShare: Math.min(1, need.movedDemand / totalDemand) }, { demandShare: Math.min(1, shareUp(need.movedDemand, totalDemand)) }];
+    const failed = asked.map(attempt).filter((r): r is TooSmall => 'tooSmall' in r);
+    works = failed.length === 0;
+    const raised = failed.reduce<Moves>((m, f) => (measure(f.tooSmall) > measure(m) ? f.tooSmall : m), need);
+    if (!works && raised === need) break; // no higher number to try
+    need = raised;
+  }
+  if (!works) {
+    const f = freePlan();
+    if (f) need = { moved: f.moved, movedDemand: f.movedDemand };
+  }
+  const what = 'stops' in budget ? `${need.moved} stops` : `${(shareUp(need.movedDemand, totalDemand) * 100).toFixed(2)}% of demand (${need.movedDemand})`;
+  throw new SolveError(`the move budget is too small: meeting the zone limits with the new demand needs at least ${what} to change zone; allow that many (or relax the limits)`, 'infeasible');
+}
+
+function sum(a: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < a.length; i++) s += a[i]!;
+  return s;
+}
+
+/** A share of the total rounded up to 0.01%, so that the percentage printed is enough. */
+function shareUp(part: number, total: number): number {
+  return Math.ceil((part / total) * 10000 - 1e-9) / 10000;
+}
+
+/** What a search reports when no plan within the budget was found: the fewest moves it met. */
+interface TooSmall {
+  readonly tooSmall: { readonly moved: number; readonly movedDemand: number };
+  readonly totalDemand: number;
+}
+
+function search(input: RebalanceInput, settings: RebalanceSettings): RebalanceResult | TooSmall {
   const { units, demand, before, forced } = input;
   const n = demand.length;
   const k = input.centres.length / 3;
@@ -104,17 +171,33 @@ export function rebalance(input: RebalanceInput, settings: RebalanceSettings): R
 
   let centres = input.centres.slice();
   let warm: Prices | undefined;
+  // Of every plan met that holds the limits: the fewest moves (what a budget too small is told to
+  // allow), and the best within the budget (taken when the search ends on one that breaks a limit).
+  const measure = (c: { moved: number; movedDemand: number }): number => (budget && 'stops' in budget ? c.moved : c.movedDemand);
+  let leastFeasible: { moved: number; movedDemand: number } | null = null;
+  let bestFeasible: { r: LimitedAssignment; lambda: number; c: { moved: number; movedDemand: number }; centres: Float64Array } | null = null;
   const step = (lambda: number): LimitedAssignment => {
     const r = assignWithLimits(units, demand, centres, bounds, locked, { stay, moveCost: perUnit(lambda), ...(warm ? { warm } : {}) });
     warm = r.prices;
+    if (budget && r.feasible) {
+      const c = count(r.assignment);
+      if (!leastFeasible || measure(c) < measure(leastFeasible)) leastFeasible = c;
+      const score = (x: { r: LimitedAssignment; c: { movedDemand: number } }): number => x.r.objectiveKm2 + baseCost * R2 * x.c.movedDemand;
+      if (within(c) && (!bestFeasible || score({ r, c }) < score(bestFeasible))) bestFeasible = { r, lambda, c, centres: centres.slice() };
+    }
     return r;
   };
+  const tooSmall = (least: { moved: number; movedDemand: number }): TooSmall => ({ tooSmall: least, totalDemand });
   // A price high enough that no move pays for itself: above the largest cost difference.
   let scale = 0;
   for (let i = 0; i < n; i += Math.max(1, Math.floor(n / 2000))) {
     for (let j = 0; j < k; j++) scale = Math.max(scale, angle2To(units, i, centres, j));
   }
-  const high = 4 * Math.max(scale, 1e-12) * Math.max(1, ...Array.from(demand.subarray(0, Math.min(n, 2000))));
+  // (Over every stop's demand: a heavy stop past the first few thousand must not find a move
+  // that pays at this price.)
+  let maxDemand = 1;
+  for (let i = 0; i < n; i++) maxDemand = Math.max(maxDemand, demand[i]!);
+  const high = 4 * Math.max(scale, 1e-12) * maxDemand;
 
   let best: { r: LimitedAssignment; lambda: number; c: { moved: number; movedDemand: number }; centres: Float64Array } | null = null;
   const rounds = settings.rounds ?? 3;
@@ -122,17 +205,24 @@ export function rebalance(input: RebalanceInput, settings: RebalanceSettings): R
     let lambda = 0;
     let r = step(0);
     let c = count(r.assignment);
-    if (budget && !within(c)) {
+    // A plan is acceptable when it is within the budget and, where the limits can be met at all
+    // (the plan without a move price meets them), meets them too: a budget never buys its moves
+    // by breaking a cap.
+    const needFeasible = r.feasible;
+    const ok = (x: LimitedAssignment, cx: { moved: number; movedDemand: number }): boolean => within(cx) && (x.feasible || !needFeasible);
+    if (budget && !ok(r, c)) {
       const top = step(high);
       const ct = count(top.assignment);
-      if (!within(ct)) {
-        const need = 'stops' in budget ? `${ct.moved} stops` : `${((ct.movedDemand / totalDemand) * 100).toFixed(2)}% of demand (${ct.movedDemand})`;
-        throw new SolveError(
-          `the move budget is too small: meeting the zone limits with the new demand needs at least ${need} to change zone; allow that many (or relax the limits)`,
-          'infeasible',
-        );
+      if (!ok(top, ct)) {
+        // A later round: its moved centres need more moves than the budget allows, but an
+        // earlier round's plan is within it. Keep that one (the budget is only too small when
+        // no plan within it was found at all).
+        if (best) break;
+        // The fewer moves of the two plans met that hold the limits (the high price does not
+        // always find fewer).
+        return tooSmall(leastFeasible ?? (measure(c) <= measure(ct) ? c : ct));
       }
-      // Bisection on the price of a move: the least price that keeps the plan within budget.
+      // Bisection on the price of a move: the least price that keeps the plan acceptable.
       let lo = 0;
       let hi = high;
       r = top;
@@ -142,7 +232,7 @@ export function rebalance(input: RebalanceInput, settings: RebalanceSettings): R
         const mid = (lo + hi) / 2;
         const rm = step(mid);
         const cm = count(rm.assignment);
-        if (within(cm)) {
+        if (ok(rm, cm)) {
           hi = mid;
           r = rm;
           c = cm;
@@ -160,7 +250,14 @@ export function rebalance(input: RebalanceInput, settings: RebalanceSettings): R
     if (moveChord < 1e-10) break;
     centres = next;
   }
-  const chosen = best!;
+  let chosen = best!;
+  // The search ended on a plan that breaks a limit: take the best one met within the budget
+  // that holds them; with none, but one with more moves, the budget is what stands in the way,
+  // so say so rather than return a plan that breaks a cap.
+  if (budget && !chosen.r.feasible) {
+    if (bestFeasible) chosen = bestFeasible;
+    else if (leastFeasible) return tooSmall(leastFeasible);
+  }
   let forcedCount = 0;
   for (let i = 0; i < n; i++) if (forced[i]) forcedCount++;
   return {
