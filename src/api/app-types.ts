@@ -65,7 +65,8 @@ export interface PlanView {
 }
 
 /**
- * The stops of a plan for drawing: positions (Float32 lon, lat pairs), zone index (Int16) and
+ * The stops of a plan for drawing: positions (Float32 lon, lat pairs), zone index (Int16: the
+ * zone's position in PlanView.zones, 0-based; its label is PlanView.zones[index].zone) and
  * demand (Float32) per stop, and which are locked (Uint8), in one ArrayBuffer with offsets.
  */
 export interface PlanArrays {
@@ -84,12 +85,14 @@ export interface StopDetails {
   readonly lon: number;
   readonly lat: number;
   readonly demand: number;
+  /** The zone's label, as ZoneRow.zone. */
   readonly zone: number;
+  /** Great-circle km to its zone's centre. */
   readonly km: number;
   readonly locked: boolean;
 }
 
-/** A manual edit of a plan. */
+/** A manual edit of a plan: stops by index (as in PlanArrays), zones by label (ZoneRow.zone). */
 export type PlanEdit =
   | { readonly kind: 'move'; readonly stop: number; readonly zone: number }
   | { readonly kind: 'lock'; readonly stop: number }

@@ -1,4 +1,5 @@
 import { readStopsFile } from '../io/read.js';
+import type { StopSet } from '../io/stopset.js';
 import { DISTANCE_NOTE } from '../io/plan-geojson.js';
 import { SolveError } from '../solve/types.js';
 import { solveStops, type RunHooks } from './plan-file.js';
@@ -34,12 +35,23 @@ export async function sweepStopsFile(
   range: { from: number; to: number; step?: number },
   hooks: RunHooks & { onRow?: (row: SweepRow) => void } = {},
 ): Promise<SweepReport> {
+  const stops = readStopsFile(file, read);
+  const rows = await sweepStops(stops, settings, range, hooks);
+  return { input: checkReport(stops), rows, distanceNote: DISTANCE_NOTE };
+}
+
+/** The sweep over stops already read (a project's stop set): one row per number of zones. */
+export async function sweepStops(
+  stops: StopSet,
+  settings: Omit<PlanSettingsInput, 'zones'>,
+  range: { from: number; to: number; step?: number },
+  hooks: RunHooks & { onRow?: (row: SweepRow) => void } = {},
+): Promise<SweepRow[]> {
   const step = range.step ?? 1;
   if (!(Number.isInteger(range.from) && Number.isInteger(range.to) && range.from >= 1 && range.to >= range.from)) {
     throw new SolveError(`the zone range must be whole numbers FROM..TO with 1 <= FROM <= TO, got ${range.from}..${range.to}`, 'settings');
   }
   if (!(Number.isInteger(step) && step >= 1)) throw new SolveError(`the sweep step must be a whole number >= 1, got ${step}`, 'settings');
-  const stops = readStopsFile(file, read);
   const rows: SweepRow[] = [];
   const ks: number[] = [];
   for (let k = range.from; k <= range.to; k += step) ks.push(k);
@@ -82,5 +94,5 @@ export async function sweepStopsFile(
     rows.push(row);
     hooks.onRow?.(row);
   }
-  return { input: checkReport(stops), rows, distanceNote: DISTANCE_NOTE };
+  return rows;
 }

@@ -18,6 +18,7 @@ import type { Plan } from '../solve/plan.js';
 import { mkdirSync } from 'node:fs';
 import type { ProjectPlanRow } from '../api/types.js';
 import { ProjectError } from '../store/errors.js';
+import { addServeCommand } from './serve-command.js';
 import { planText, problemLine, fixed, amount, sweepText, sweepCsv, comparisonText, rebalanceText } from './format.js';
 
 /** Exit codes: 0 done; 2 the user must change something (input, options, destination); 1 internal fault. */
@@ -57,6 +58,16 @@ function positiveNumber(what: string) {
     if (!/^\d+(\.\d+)?([eE][+-]?\d+)?$/.test(v.trim()) || !Number.isFinite(n)) throw new InvalidArgumentError(`${what} must be a number >= 0, got "${v}"`);
     return n;
   };
+}
+
+/**
+ * --margin-km: a number above 0. A margin of 0 would make the service area the bare hull, with
+ * stops on its edge (zoneBoundaries refuses it), so it is refused here, like a negative one.
+ */
+function marginKmOption(v: string): number {
+  const n = positiveNumber('margin-km')(v);
+  if (!(n > 0)) throw new InvalidArgumentError(`margin-km must be a number above 0 (km around the hull of the stops), got "${v}"`);
+  return n;
 }
 
 /** "5%" or "0.05" -> 0.05. */
@@ -181,7 +192,7 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
     .option('--assignments <file>', 'write stop assignments as CSV: stop_id, zone, km_to_centre, demand')
     .option('--json', 'print the plan report as JSON on stdout')
     .option('--quiet', 'no progress line on stderr')
-    .option('--margin-km <km>', 'zone polygons cover the hull of the stops plus this margin (default 2)', positiveNumber('margin-km'))
+    .option('--margin-km <km>', 'zone polygons cover the hull of the stops plus this margin, above 0 (default 2)', marginKmOption)
     .option('--service-area <file>', 'GeoJSON Polygon/MultiPolygon the zone polygons partition (instead of the hull plus margin)')
     .option('--no-boundaries', 'write no zone polygons');
   planCommand
@@ -264,6 +275,7 @@ export async function main(argv: readonly string[], io: CliIo = defaultIo): Prom
   });
 
   addProjectCommands(program, io);
+  addServeCommand(program, io);
 
   try {
     await program.parseAsync(argv as string[], { from: 'user' });
@@ -437,7 +449,7 @@ function addProjectCommands(program: Command, io: CliIo): void {
     .option('-o, --out <file>', 'write the plan as one GeoJSON (RFC 7946): zones, centres and stops')
     .option('--layers <dir>', 'write zones.geojson, centres.geojson, stops.geojson and assignments.csv into a folder')
     .option('--assignments <file>', 'write stop assignments as CSV: stop_id, zone, km_to_centre, demand')
-    .option('--margin-km <km>', 'zone polygons cover the hull of the stops plus this margin (default 2)', positiveNumber('margin-km'))
+    .option('--margin-km <km>', 'zone polygons cover the hull of the stops plus this margin, above 0 (default 2)', marginKmOption)
     .option('--service-area <file>', 'GeoJSON Polygon/MultiPolygon the zone polygons partition (instead of the hull plus margin)')
     .option('--no-boundaries', 'write no zone polygons')
     .action(async (file: string, o: Record<string, unknown>, cmd: Command) => {

@@ -1,0 +1,417 @@
+import { randomUUID } from 'node:crypto';
+import { statSync } from 'node:fs';
+import path from 'node:path';
+import { writeFileAtomic } from '../io/atomic.js';
+import { assignmentsCsvChunks } from '../io/assignments-csv.js';
+import { layerGeoJsonChunks, planGeoJsonChunks } from '../io/plan-geojson.js';
+import { ImportError } from '../io/problems.js';
+import { lonLatFromVector } from '../geo/unit.js';
+import { startPlanRun, type PlanRunHandle, type WorkerFactory } from '../run/plan-run.js';
+import type {
+  Api,
+  ExportRequest,
+  ExportResult,
+  ImportOutcome,
+  PlanArrays,
+  PlanEdit,
+  PlanInfo,
+  PlanView,
+  ProjectInfo,
+  RunSettings,
+  RunStatus,
+  StopDetails,
+  StopSetInfo,
+} from './app-types.js';
+import { boundariesGeoJson } from './boundaries-json.js';
+import { applyEdits, type EditedPlan } from './edited-plan.js';
+import { planLayers } from './plan-file.js';
+import { planArrays, planView, stopDetails } from './plan-view.js';
+import { createProject, openProject, type LoadedPlan, type ProjectHandle } from './project.js';
+import { comparePlans, rebalancePlan } from './rebalance.js';
+import { checkReport } from './report.js';
+import { sweepStops } from './sweep.js';
+import { readStopsText } from './text-import.js';
+import type { PlanComparison, PlanEditInput, PlanSettingsInput, ProjectPlanRow, RebalanceReport, StopFileOptions, SweepRow } from './types.js';
+import { UndoStacks, type EditStep } from './undo-stack.js';
+import { AppError } from './wire-error.js';
+
+export interface SessionOptions {
+  readonly mode: 'desktop' | 'browser';
+  /** How plan runs get their worker thread (default: the plan worker beside the app). */
+  readonly workerFactory?: WorkerFactory;
+  /** Plans with more stops keep their saved boundaries after edits (redrawing them is slow). */
+  readonly redrawBoundariesUpTo?: number;
+}
+
+interface RunRecord {
+  status: { -readonly [K in keyof RunStatus]: RunStatus[K] };
+  readonly run: PlanRunHandle;
+  /** Settles when the run has ended and its plan is saved (or not). */
+  readonly ended: Promise<void>;
+}
+
+interface CachedPlan {
+  readonly plan: EditedPlan;
+  boundaries?: { geojson: unknown; notes: string[] };
+}
+
+/**
+ * What one map window works with: one open project, its plan runs in worker threads, and the
+ * undo history of its manual edits. Implements the Api the window calls, over IPC or HTTP.
+ */
+export class AppSession implements Api {
+  private handle: ProjectHandle | null = null;
+  private readonly runs = new Map<string, RunRecord>();
+  private readonly history = new UndoStacks();
+  private readonly plans = new Map<string, CachedPlan>();
+  private readonly loaded = new Map<string, LoadedPlan>();
+  private readonly stopSetFacts = new Map<number, { totalDemand: number; bbox: [number, number, number, number] }>();
+  /** The plan the window looked at last (the menu's Export uses it). */
+  lastPlan: string | null = null;
+
+  constructor(private readonly options: SessionOptions) {}
+
+  // ---- the project
+
+  private need(): ProjectHandle {
+    if (!this.handle) throw new AppError('project', 'no project is open: open or make one first');
+    return this.handle;
+  }
+
+  get projectFile(): string | null {
+    return this.handle?.file ?? null;
+  }
+
+  /** Opens a project as this window's (the one open before is closed once the new one opened). */
+  async open(file: string): Promise<void> {
+    // The same file again: closed first (its lock is this window's), then opened afresh.
+    if (this.handle && path.resolve(this.handle.file) === path.resolve(file)) await this.close();
+    const next = await openProject(file);
+    await this.close();
+    this.handle = next;
+  }
+
+  /** Cancels runs under way and closes the project. */
+  async close(): Promise<void> {
+    await Promise.all([...this.runs.values()].filter((r) => r.status.state === 'running').map((r) => this.cancelRun(r.status.id)));
+    this.plans.clear();
+    this.loaded.clear();
+    this.history.clear();
+    this.stopSetFacts.clear();
+    this.lastPlan = null;
+    const h = this.handle;
+    this.handle = null;
+    await h?.close();
+  }
+
+  async mode(): Promise<'desktop' | 'browser'> {
+    return this.options.mode;
+  }
+
+  async project(): Promise<ProjectInfo> {
+    const h = this.need();
+    const stopSets = h.store.listStopSets().map((s): StopSetInfo => {
+      let facts = this.stopSetFacts.get(s.id);
+      if (!facts) {
+        const r = checkReport(h.store.loadStopSet(s.id));
+        facts = { totalDemand: r.totalDemand, bbox: r.bbox };
+        this.stopSetFacts.set(s.id, facts);
+      }
+      return { id: s.id, source: s.source, importedAt: s.importedAt, stops: s.stops, totalDemand: facts.totalDemand, warnings: s.warnings.map((w) => ({ ...w })), bbox: facts.bbox };
+    });
+    const plans = (await h.listPlans()).map((p): PlanInfo => planInfoOf(p));
+    return { file: h.file, stopSets, plans };
+  }
+
+  async newProject(file: string): Promise<ProjectInfo> {
+    await createProject(file);
+    await this.open(file);
+    return this.project();
+  }
+
+  async openProject(file: string): Promise<ProjectInfo> {
+    await this.open(file);
+    return this.project();
+  }
+
+  async importStops(source: { readonly file: string } | { readonly name: string; readonly text: string }, options: StopFileOptions = {}): Promise<ImportOutcome> {
+    const h = this.need();
+    try {
+      const summary = 'file' in source ? await h.importStops(source.file, options) : await h.store.addStopSet(readStopsText(source.name, source.text, options));
+      const id = summary.id;
+      const info = (await this.project()).stopSets.find((s) => s.id === id)!;
+      return { ok: true, stopSet: info };
+    } catch (e) {
+      if (!(e instanceof ImportError)) throw e;
+      return { ok: false, file: e.file, problems: e.problems.map((p) => ({ ...p })), errorCount: e.errorCount };
+    }
+  }
+
+  // ---- plan runs
+
+  async startRun(stopSetId: number, settings: RunSettings, planName: string): Promise<RunStatus> {
+    const h = this.need();
+    const name = h.store.checkNameFree(planName);
+    for (const r of this.runs.values()) {
+      if (r.status.state === 'running' && r.status.planName === name) throw new AppError('usage', `a run that saves plan "${name}" is already under way`);
+    }
+    const stops = h.store.loadStopSet(stopSetId);
+    const request = planSettings(settings);
+    const id = randomUUID();
+    const status: RunRecord['status'] = { id, state: 'running', fraction: 0, phase: 'start', message: null, planName: name };
+    const run = startPlanRun(
+      { stops, settings: { ...request, threads: 1 } },
+      (fraction, phase) => {
+        if (status.state !== 'running') return;
+        status.fraction = fraction;
+        status.phase = phase;
+      },
+      this.options.workerFactory,
+    );
+    const ended = run.outcome.then(async (o) => {
+      if (status.state !== 'running') return;
+      if (o.state === 'cancelled') {
+        Object.assign(status, { state: 'cancelled', message: 'the plan run was cancelled; the saved plans are unchanged' });
+        return;
+      }
+      if (o.state === 'failed') {
+        Object.assign(status, { state: 'failed', message: o.error.message });
+        return;
+      }
+      try {
+        if (this.handle !== h) throw new AppError('project', `the project was closed before plan "${name}" could be saved in it`);
+        await h.savePlan(o.solved, name, { request, boundaries: o.boundaries });
+        Object.assign(status, { state: 'done', fraction: 1, phase: 'done', message: o.notes.length > 0 ? o.notes.join('; ') : null });
+      } catch (e) {
+        Object.assign(status, { state: 'failed', message: e instanceof Error ? e.message : String(e) });
+      }
+    });
+    this.runs.set(id, { status, run, ended });
+    return { ...status };
+  }
+
+  private runOf(id: string): RunRecord {
+    const r = this.runs.get(id);
+    if (!r) throw new AppError('usage', `no plan run ${id} in this window`);
+    return r;
+  }
+
+  async runStatus(id: string): Promise<RunStatus> {
+    return { ...this.runOf(id).status };
+  }
+
+  async cancelRun(id: string): Promise<RunStatus> {
+    const r = this.runOf(id);
+    if (r.status.state === 'running') {
+      await r.run.cancel();
+      await r.ended;
+    }
+    return { ...r.status };
+  }
+
+  /** Waits until a run has ended (and its plan is saved when it succeeded). */
+  async waitForRun(id: string): Promise<RunStatus> {
+    const r = this.runOf(id);
+    await r.ended;
+    return { ...r.status };
+  }
+
+  // ---- plans as they are now
+
+  private async edited(name: string): Promise<CachedPlan> {
+    const h = this.need();
+    const key = h.store.planInfo(name).name;
+    let c = this.plans.get(key);
+    if (!c) {
+      // The plan as solved is read once; its edits are applied afresh after each change.
+      let loaded = this.loaded.get(key);
+      if (!loaded) {
+        loaded = await h.loadPlan(key);
+        this.loaded.set(key, loaded);
+      }
+      c = { plan: applyEdits(loaded, h.store.listEdits(key)) };
+      this.plans.set(key, c);
+    }
+    this.lastPlan = key;
+    return c;
+  }
+
+  private boundariesOf(c: CachedPlan): { geojson: unknown; notes: string[] } {
+    if (c.boundaries) return c.boundaries;
+    const p = c.plan;
+    if (p.edits === 0) c.boundaries = { geojson: p.loaded.boundaries ?? null, notes: [] };
+    else if (p.stops.ids.length <= (this.options.redrawBoundariesUpTo ?? 20_000)) c.boundaries = boundariesGeoJson(p);
+    else c.boundaries = { geojson: p.loaded.boundaries ?? null, notes: ['the zone polygons show the plan as solved; the manual edits since are in the stops and the zone table'] };
+    return c.boundaries;
+  }
+
+  private view(c: CachedPlan): PlanView {
+    const b = this.boundariesOf(c);
+    const name = c.plan.loaded.info.name;
+    return planView(c.plan, b.geojson, b.notes, this.history.canUndo(name), this.history.canRedo(name));
+  }
+
+  async plan(name: string): Promise<PlanView> {
+    return this.view(await this.edited(name));
+  }
+
+  async planArrays(name: string): Promise<PlanArrays> {
+    return planArrays((await this.edited(name)).plan);
+  }
+
+  async stopIds(name: string): Promise<readonly string[]> {
+    return (await this.edited(name)).plan.stops.ids;
+  }
+
+  async stop(plan: string, index: number): Promise<StopDetails> {
+    const p = (await this.edited(plan)).plan;
+    if (!(index >= 0 && index < p.stops.ids.length)) throw new AppError('usage', `plan "${p.loaded.info.name}" has stops 0..${p.stops.ids.length - 1}, not ${index}`);
+    return stopDetails(p, index);
+  }
+
+  // ---- manual edits
+
+  /** The edit that takes `edit` back, from the plan as it is before it. */
+  private inverseOf(p: EditedPlan, edit: PlanEdit): PlanEdit {
+    const label = (j: number): number => p.plan.zoneIds[j]!;
+    if (edit.kind === 'pin-centre') {
+      const j = p.plan.zoneIds.indexOf(edit.zone);
+      if (j < 0) return edit; // refused when recorded
+      const c = p.plan.centres;
+      const [lon, lat] = lonLatFromVector(c[3 * j]!, c[3 * j + 1]!, c[3 * j + 2]!);
+      return { kind: 'pin-centre', zone: edit.zone, lon, lat };
+    }
+    const i = edit.stop;
+    if (!(i >= 0 && i < p.stops.ids.length)) return edit; // refused when recorded
+    if (edit.kind === 'move') return { kind: 'move', stop: i, zone: label(p.plan.assignment[i]!) };
+    return p.locked[i]! >= 0 ? { kind: 'lock', stop: i } : { kind: 'unlock', stop: i };
+  }
+
+  /** Records an edit in the project and returns the plan as it is after it. */
+  private async record(plan: string, edit: PlanEdit): Promise<{ key: string; inverse: PlanEdit }> {
+    const h = this.need();
+    const c = await this.edited(plan);
+    const key = c.plan.loaded.info.name;
+    const inverse = this.inverseOf(c.plan, edit);
+    let input: PlanEditInput;
+    if (edit.kind === 'pin-centre') input = { kind: 'pin-centre', zone: edit.zone, lon: edit.lon, lat: edit.lat };
+    else if (edit.kind === 'move') input = { kind: 'move', stopIndex: edit.stop, zone: edit.zone };
+    else input = { kind: edit.kind, stopIndex: edit.stop };
+    await h.appendEdit(key, input);
+    this.plans.delete(key);
+    return { key, inverse };
+  }
+
+  async edit(plan: string, edit: PlanEdit): Promise<PlanView> {
+    const { key, inverse } = await this.record(plan, edit);
+    this.history.did(key, { edit, inverse });
+    return this.plan(key);
+  }
+
+  async undo(plan: string): Promise<PlanView> {
+    const key = (await this.edited(plan)).plan.loaded.info.name;
+    const step = this.history.popUndo(key);
+    if (!step) throw new AppError('usage', `nothing to undo in plan "${key}"`);
+    try {
+      await this.record(key, step.inverse);
+    } catch (e) {
+      this.history.redone(key, step);
+      throw e;
+    }
+    this.history.undone(key, step);
+    return this.plan(key);
+  }
+
+  async redo(plan: string): Promise<PlanView> {
+    const key = (await this.edited(plan)).plan.loaded.info.name;
+    const step: EditStep | undefined = this.history.popRedo(key);
+    if (!step) throw new AppError('usage', `nothing to redo in plan "${key}"`);
+    let inverse: PlanEdit;
+    try {
+      inverse = (await this.record(key, step.edit)).inverse;
+    } catch (e) {
+      this.history.undone(key, step);
+      throw e;
+    }
+    this.history.redone(key, { edit: step.edit, inverse });
+    return this.plan(key);
+  }
+
+  async renamePlan(from: string, to: string): Promise<ProjectInfo> {
+    const h = this.need();
+    const old = h.store.planInfo(from).name;
+    const row = await h.renamePlan(old, to);
+    this.plans.delete(old);
+    this.loaded.delete(old);
+    this.history.rename(old, row.name);
+    if (this.lastPlan === old) this.lastPlan = row.name;
+    return this.project();
+  }
+
+  // ---- comparing, rebalancing, sweeping, exporting
+
+  async compare(a: string, b: string): Promise<PlanComparison> {
+    const pa = (await this.edited(a)).plan;
+    const pb = (await this.edited(b)).plan;
+    return comparePlans(pa, pb);
+  }
+
+  async rebalance(
+    plan: string,
+    stopSetId: number,
+    newName: string,
+    budget: { readonly stops: number } | { readonly demandShare: number } | null,
+  ): Promise<{ readonly view: PlanView; readonly report: RebalanceReport }> {
+    const h = this.need();
+    const old = (await this.edited(plan)).plan;
+    const parent = old.loaded.info.name;
+    const name = h.store.checkNameFree(newName);
+    const stops = h.store.loadStopSet(stopSetId);
+    const { solved, report } = rebalancePlan(old, stops, budget ? { budget } : {});
+    const { geojson } = boundariesGeoJson(solved);
+    await h.savePlan(solved, name, { parent, boundaries: geojson });
+    return { view: await this.plan(name), report };
+  }
+
+  async sweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<readonly SweepRow[]> {
+    const stops = this.need().store.loadStopSet(stopSetId);
+    const { zones: _zones, ...rest } = planSettings({ ...settings, zones: from });
+    return sweepStops(stops, rest, { from, to });
+  }
+
+  async exportPlan(request: ExportRequest): Promise<ExportResult> {
+    const p = (await this.edited(request.plan)).plan;
+    let chunks: Iterable<string>;
+    if (request.kind === 'assignments') chunks = assignmentsCsvChunks(p.stops, p.plan, p.figures);
+    else {
+      const layers = planLayers(p);
+      if (request.kind === 'zones' && !layers.boundaries) throw new AppError('usage', `the zones of plan "${p.loaded.info.name}" cannot be drawn: ${layers.notes.join('; ')}`);
+      chunks = request.kind === 'plan' ? planGeoJsonChunks(layers) : layerGeoJsonChunks(layers, request.kind);
+    }
+    if (request.file === null) {
+      const content = [...chunks].join('');
+      return { file: null, content, bytes: Buffer.byteLength(content) };
+    }
+    writeFileAtomic(request.file, chunks);
+    return { file: request.file, content: null, bytes: statSync(request.file).size };
+  }
+}
+
+function planInfoOf(p: ProjectPlanRow): PlanInfo {
+  return { name: p.name, createdAt: p.created, stopSetId: p.stopSet, zones: p.zones, stops: p.stops, objectiveKm2: p.objectiveKm2, parent: p.parent, edits: p.edits, feasible: p.feasible };
+}
+
+/** The plan panel's settings as the engine's (only those given). */
+function planSettings(s: RunSettings): PlanSettingsInput {
+  return {
+    zones: s.zones,
+    ...(s.seed !== undefined ? { seed: s.seed } : {}),
+    ...(s.restarts !== undefined ? { restarts: s.restarts } : {}),
+    ...(s.capacity !== undefined ? { capacity: s.capacity } : {}),
+    ...(s.balance !== undefined ? { balance: s.balance } : {}),
+    ...(s.minStops !== undefined ? { minStops: s.minStops } : {}),
+    ...(s.maxStops !== undefined ? { maxStops: s.maxStops } : {}),
+    ...(s.depotsFile !== undefined ? { depotsFile: s.depotsFile } : {}),
+    ...(s.centre !== undefined ? { centre: s.centre } : {}),
+  };
+}
