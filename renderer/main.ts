@@ -1,0 +1,782 @@
+/**
+ * The map window: wires the Api (window.zoneplan in the desktop app, HTTP in browser mode) to the
+ * map and the panels. Every edit, undo and redo redraws the zone table, charts and map from the
+ * PlanView the main side returns, so the window never computes figures of its own (except the
+ * 90th-percentile spread ring, from the stop arrays).
+ *
+ * Test hooks are data attributes only: body[data-ready="1"] once the first plan is drawn,
+ * #run-progress[data-run-state], body[data-plan-name], #map[data-stop-count], #map[data-draw-ms].
+ */
+import 'leaflet/dist/leaflet.css';
+import './style.css';
+import type { Api, PlanArrays, PlanView, ProjectInfo, RunSettings, RunStatus, StopDetails } from '../src/api/app-types.js';
+import type { InputProblem, PlanComparison, ZoneRow } from '../src/api/types.js';
+import { createHttpApi, errorMessage } from './api-client.js';
+import { MapView } from './map-view.js';
+import { sweepChart, workloadChart } from './charts.js';
+import { download, fmt, fmtKm, h, pct } from './format.js';
+import { assignZoneColours, zoneColour } from './palette.js';
+import type { StopsData } from './stops-layer.js';
+
+const $ = <T extends HTMLElement = HTMLElement>(id: string): T => {
+  const el = document.getElementById(id);
+  if (!el) throw new Error(`missing #${id}`);
+  return el as T;
+};
+
+function pickApi(): Api {
+  const desktop = (window as unknown as { zoneplan?: Api }).zoneplan;
+  if (desktop) return desktop;
+  const token = new URLSearchParams(location.search).get('token') ?? '';
+  return createHttpApi(token);
+}
+
+const api = pickApi();
+
+interface State {
+  project: ProjectInfo | null;
+  plan: string | null;
+  view: PlanView | null;
+  arrays: StopsData | null;
+  demand: Float32Array | null;
+  ids: readonly string[] | null;
+  selected: StopDetails | null;
+  run: RunStatus | null;
+  sort: { key: SortKey; dir: 1 | -1 };
+  comparison: { a: string; b: string; result: PlanComparison } | null;
+}
+type SortKey = 'zone' | 'stops' | 'demand' | 'utilisation' | 'meanKm' | 'maxKm' | 'p90';
+
+const state: State = { project: null, plan: null, view: null, arrays: null, demand: null, ids: null, selected: null, run: null, sort: { key: 'zone', dir: 1 }, comparison: null };
+let spread = new Map<number, number>();
+
+// ---------------------------------------------------------------------------------------------
+// Status line
+
+function status(msg: string, error = false): void {
+  const el = $('status');
+  el.textContent = msg;
+  el.classList.toggle('zp-error', error);
+  el.title = msg;
+}
+
+async function guard<T>(what: string, f: () => Promise<T>): Promise<T | undefined> {
+  try {
+    return await f();
+  } catch (e) {
+    status(`${what}: ${errorMessage(e)}`, true);
+    return undefined;
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Map
+
+const mapView = new MapView($('map'), {
+  onStopClick: (i) => void selectStop(i),
+  onCentreDrop: (zone, lon, lat) => void applyEdit({ kind: 'pin-centre', zone, lon, lat }, `Zone ${zone} centre pinned`),
+});
+
+/** Zone label of each array zone index (the zone rows are in index order). */
+function labelsOf(view: PlanView): Int16Array {
+  const map = new Int16Array(Math.max(1, view.zones.length));
+  view.zones.forEach((z, j) => (map[j] = z.zone));
+  return map;
+}
+
+function stopsData(a: PlanArrays, view: PlanView): { data: StopsData; demand: Float32Array } {
+  const lonLat = new Float32Array(a.buffer, a.lonLatOffset, 2 * a.count);
+  const zone = new Int16Array(a.buffer, a.zoneOffset, a.count);
+  const demand = new Float32Array(a.buffer, a.demandOffset, a.count);
+  const locked = new Uint8Array(a.buffer, a.lockedOffset, a.count);
+  const labels = labelsOf(view);
+  const label = new Int16Array(a.count);
+  for (let i = 0; i < a.count; i++) {
+    const z = zone[i]!;
+    label[i] = z >= 0 && z < labels.length ? labels[z]! : 0;
+  }
+  return { data: { count: a.count, lonLat, label, locked }, demand };
+}
+
+/** The 90th-percentile great-circle distance (km) of each zone's stops to its centre. */
+function spreadKm(d: StopsData, zones: readonly ZoneRow[]): Map<number, number> {
+  const R = 6371.0088;
+  const rad = Math.PI / 180;
+  const byZone = new Map<number, number[]>();
+  const centre = new Map<number, [number, number]>();
+  for (const z of zones) {
+    byZone.set(z.zone, []);
+    centre.set(z.zone, z.centre);
+  }
+  for (let i = 0; i < d.count; i++) {
+    const c = centre.get(d.label[i]!);
+    if (!c) continue;
+    const lon = d.lonLat[2 * i]! * rad, lat = d.lonLat[2 * i + 1]! * rad;
+    const lon0 = c[0] * rad, lat0 = c[1] * rad;
+    const s1 = Math.sin((lat - lat0) / 2), s2 = Math.sin((lon - lon0) / 2);
+    const a = s1 * s1 + Math.cos(lat) * Math.cos(lat0) * s2 * s2;
+    byZone.get(d.label[i]!)!.push(2 * R * Math.atan2(Math.sqrt(a), Math.sqrt(Math.max(0, 1 - a))));
+  }
+  const out = new Map<number, number>();
+  for (const [z, ds] of byZone) {
+    if (ds.length === 0) continue;
+    ds.sort((x, y) => x - y);
+    out.set(z, ds[Math.min(ds.length - 1, Math.floor(0.9 * (ds.length - 1)))]!);
+  }
+  return out;
+}
+
+function capacityOf(view: PlanView): number | null {
+  const caps = view.zones.map((z) => z.maxDemand).filter((x): x is number => x !== null);
+  return caps.length ? Math.max(...caps) : null;
+}
+
+/** Redraws everything that depends on the plan view (and the arrays when given). */
+function render(view: PlanView, arrays?: PlanArrays): void {
+  state.view = view;
+  assignZoneColours(view.zones);
+  if (arrays) {
+    const { data, demand } = stopsData(arrays, view);
+    state.arrays = data;
+    state.demand = demand;
+    const t0 = performance.now();
+    mapView.setStops(data);
+    $('map').dataset['drawMs'] = String(Math.round(performance.now() - t0));
+    $('map').dataset['stopCount'] = String(data.count);
+  }
+  if (state.arrays) spread = spreadKm(state.arrays, view.zones);
+  mapView.setBoundaries(view.boundaries);
+  mapView.setZones(view.zones, spread, capacityOf(view));
+  renderZoneTable();
+  renderWorkloadChart();
+  renderHistoryButtons();
+  renderStopZoneOptions();
+  const title = `${view.info.name} · ${view.info.zones} zones · ${fmt(view.info.stops)} stops${view.info.edits ? ` · ${view.info.edits} edits` : ''}`;
+  $('plan-title').textContent = title;
+  document.body.dataset['planName'] = view.info.name;
+  $('distance-note').textContent = view.distanceNote || $('distance-note').textContent;
+}
+
+async function openPlan(name: string, fit = true): Promise<void> {
+  status(`Opening ${name}…`);
+  const t0 = performance.now();
+  const got = await guard(`Opening ${name}`, () => Promise.all([api.plan(name), api.planArrays(name)]));
+  if (!got) return;
+  const t1 = performance.now();
+  const [view, arrays] = got;
+  state.plan = name;
+  state.ids = null;
+  state.selected = null;
+  state.comparison = null;
+  mapView.stops.setHighlighted(null);
+  mapView.stops.setSelected(null);
+  renderStopDetails();
+  $('compare-result').textContent = '';
+  render(view, arrays);
+  if (fit) mapView.fitStops();
+  renderPlanList();
+  $('map').dataset['fetchMs'] = String(Math.round(t1 - t0));
+  $('map').dataset['renderMs'] = String(Math.round(performance.now() - t1));
+  status(`${name}: ${view.zones.length} zones, objective ${fmt(view.objectiveKm2)} km²`);
+}
+
+/** Refresh after an edit, undo or redo: the view came back; the stop arrays changed with it. */
+async function afterEdit(view: PlanView, message: string): Promise<void> {
+  const arrays = await guard('Reading the stops', () => api.planArrays(view.info.name));
+  render(view, arrays);
+  if (state.selected) await selectStop(state.selected.index, false);
+  await refreshProject();
+  status(message);
+}
+
+async function applyEdit(edit: Parameters<Api['edit']>[1], message: string): Promise<void> {
+  if (!state.plan) return;
+  const plan = state.plan;
+  const view = await guard('Edit', () => api.edit(plan, edit));
+  if (view) await afterEdit(view, message);
+  else if (state.view) render(state.view); // put a dragged centre back
+}
+
+async function undoRedo(which: 'undo' | 'redo'): Promise<void> {
+  if (!state.plan || !state.view) return;
+  if (which === 'undo' ? !state.view.canUndo : !state.view.canRedo) return;
+  const plan = state.plan;
+  const view = await guard(which === 'undo' ? 'Undo' : 'Redo', () => (which === 'undo' ? api.undo(plan) : api.redo(plan)));
+  if (view) await afterEdit(view, which === 'undo' ? 'Undone' : 'Redone');
+}
+
+function renderHistoryButtons(): void {
+  ($('undo') as HTMLButtonElement).disabled = !state.view?.canUndo;
+  ($('redo') as HTMLButtonElement).disabled = !state.view?.canRedo;
+}
+
+$('undo').addEventListener('click', () => void undoRedo('undo'));
+$('redo').addEventListener('click', () => void undoRedo('redo'));
+document.addEventListener('keydown', (e) => {
+  if (!(e.ctrlKey || e.metaKey) || e.key.toLowerCase() !== 'z' && e.key.toLowerCase() !== 'y') return;
+  const t = e.target as HTMLElement | null;
+  if (t && (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.isContentEditable)) return;
+  e.preventDefault();
+  const redo = e.key.toLowerCase() === 'y' || e.shiftKey;
+  void undoRedo(redo ? 'redo' : 'undo');
+});
+
+// ---------------------------------------------------------------------------------------------
+// Zone table
+
+const COLUMNS: readonly { key: SortKey; label: string; title: string }[] = [
+  { key: 'zone', label: 'Zone', title: 'Zone number' },
+  { key: 'stops', label: 'Stops', title: 'Stops in the zone' },
+  { key: 'demand', label: 'Demand', title: 'Workload (sum of demand)' },
+  { key: 'utilisation', label: 'Use', title: 'Demand as a share of the zone capacity' },
+  { key: 'meanKm', label: 'Mean km', title: 'Mean great-circle km to the centre' },
+  { key: 'maxKm', label: 'Max km', title: 'Largest great-circle km to the centre' },
+  { key: 'p90', label: '90% km', title: '90% of stops are within this great-circle distance' },
+];
+
+function sortValue(z: ZoneRow, key: SortKey): number {
+  if (key === 'p90') return spread.get(z.zone) ?? 0;
+  if (key === 'utilisation') return z.utilisation ?? (capacityOf(state.view!) ? z.demand / capacityOf(state.view!)! : 0);
+  return z[key];
+}
+
+function renderZoneTable(): void {
+  const view = state.view;
+  const table = $('zone-table');
+  const headRow = table.querySelector('thead tr')!;
+  headRow.innerHTML = '';
+  for (const c of COLUMNS) {
+    const active = state.sort.key === c.key;
+    const th = h('th', { scope: 'col', 'aria-sort': active ? (state.sort.dir === 1 ? 'ascending' : 'descending') : 'none', 'data-key': c.key });
+    const b = h('button', { type: 'button', title: `${c.title}. Sort by ${c.label}.`, text: `${c.label}${active ? (state.sort.dir === 1 ? ' ▲' : ' ▼') : ''}` });
+    b.addEventListener('click', () => {
+      state.sort = { key: c.key, dir: active ? ((-state.sort.dir) as 1 | -1) : 1 };
+      renderZoneTable();
+      (table.querySelector(`th[data-key="${c.key}"] button`) as HTMLButtonElement | null)?.focus();
+    });
+    th.appendChild(b);
+    headRow.appendChild(th);
+  }
+  const body = table.querySelector('tbody')!;
+  body.innerHTML = '';
+  if (!view) return;
+  const cap = capacityOf(view);
+  const rows = [...view.zones].sort((a, b) => (sortValue(a, state.sort.key) - sortValue(b, state.sort.key)) * state.sort.dir || a.zone - b.zone);
+  for (const z of rows) {
+    const over = z.breaksLimits || (cap !== null && z.demand > cap * (1 + 1e-9));
+    const u = z.utilisation ?? (cap ? z.demand / cap : null);
+    const util = h('span', { class: `zp-util${over ? ' zp-util-over' : ''}`, 'aria-hidden': 'true' }, h('span'));
+    (util.firstChild as HTMLElement).style.width = `${Math.min(100, Math.max(0, (u ?? 0) * 100))}%`;
+    const sw = h('span', { class: 'zp-swatch' });
+    sw.style.background = zoneColour(z.zone);
+    const tr = h(
+      'tr',
+      { tabindex: 0, 'data-zone': z.zone, class: over ? 'zp-over' : null, 'aria-label': `Zone ${z.zone}${z.name ? ` (${z.name})` : ''}: ${z.stops} stops, demand ${fmt(z.demand)}${u !== null ? `, ${pct(u)} of capacity` : ''}${over ? ', breaks its limits' : ''}. Enter zooms to it.` },
+      h('td', {}, sw, ` ${z.name ?? z.zone}${z.fixed ? ' ⚓' : ''}`),
+      h('td', { 'data-col': 'stops', text: fmt(z.stops) }),
+      h('td', { 'data-col': 'demand', text: fmt(z.demand, Number.isInteger(z.demand) ? 0 : 1) }),
+      h('td', { 'data-col': 'utilisation' }, u !== null ? util : '', ` ${u !== null ? pct(u) : '–'}${over ? ' ⚠' : ''}`),
+      h('td', { 'data-col': 'meanKm', text: fmt(z.meanKm, 1) }),
+      h('td', { 'data-col': 'maxKm', text: fmt(z.maxKm, 1) }),
+      h('td', { 'data-col': 'p90', text: fmt(spread.get(z.zone) ?? null, 1) }),
+    );
+    const zoom = () => mapView.fitZone(z.zone);
+    tr.addEventListener('click', zoom);
+    tr.addEventListener('keydown', (e) => {
+      if (e.key === 'Enter' || e.key === ' ') {
+        e.preventDefault();
+        zoom();
+      } else if (e.key === 'ArrowDown' || e.key === 'ArrowUp') {
+        e.preventDefault();
+        ((e.key === 'ArrowDown' ? tr.nextElementSibling : tr.previousElementSibling) as HTMLElement | null)?.focus();
+      }
+    });
+    body.appendChild(tr);
+  }
+  const over = view.zones.filter((z) => z.breaksLimits).length;
+  $('zones-summary').textContent = `Objective ${fmt(view.objectiveKm2)} km² · workload spread (CV) ${fmt(view.demandCv, 3)}${view.maxMinRatio !== null ? ` · largest/smallest ${fmt(view.maxMinRatio, 2)}` : ''}${over ? ` · ${over} zone${over === 1 ? '' : 's'} over limits` : ''}${view.notes.length ? ` · ${view.notes.join('; ')}` : ''}`;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Charts
+
+function renderWorkloadChart(): void {
+  const el = $('chart-workload');
+  el.innerHTML = '';
+  if (state.view) el.appendChild(workloadChart(state.view.zones, capacityOf(state.view)));
+}
+
+$('sweep-form').addEventListener('submit', (e) => {
+  e.preventDefault();
+  void (async () => {
+    const stopSet = Number(($('run-stopset') as HTMLSelectElement).value || state.view?.info.stopSetId);
+    const from = Number(($('sweep-from') as HTMLInputElement).value);
+    const to = Number(($('sweep-to') as HTMLInputElement).value);
+    const el = $('chart-sweep');
+    el.textContent = 'Sweeping…';
+    const { zones: _z, ...rest } = runSettings();
+    void _z;
+    const rows = await guard('Sweep', () => api.sweep(stopSet, Math.min(from, to), Math.max(from, to), rest));
+    el.innerHTML = '';
+    if (!rows) return;
+    el.appendChild(sweepChart(rows));
+    el.appendChild(h('p', { class: 'zp-hint', text: 'Solid: objective (sum of demand × km²). Dashed: workload spread (coefficient of variation of zone demand).' }));
+    const t = h('table', { class: 'zp-table', 'aria-label': 'Sweep results' }, h('thead', {}, h('tr', {}, ...['K', 'Objective', 'CV', 'Max km'].map((x) => h('th', { scope: 'col', text: x })))));
+    const tb = h('tbody');
+    for (const r of rows) tb.appendChild(h('tr', {}, h('td', { text: r.zones }), h('td', { text: fmt(r.objectiveKm2) }), h('td', { text: fmt(r.demandCv, 3) }), h('td', { text: r.note ?? fmt(r.maxKm, 1) })));
+    t.appendChild(tb);
+    el.appendChild(t);
+    status(`Sweep of K ${from}–${to} done`);
+  })();
+});
+
+// ---------------------------------------------------------------------------------------------
+// Selected stop
+
+async function stopIds(): Promise<readonly string[] | null> {
+  if (state.ids || !state.plan) return state.ids;
+  const plan = state.plan;
+  state.ids = (await guard('Reading stop ids', () => api.stopIds(plan))) ?? null;
+  return state.ids;
+}
+
+async function selectStop(index: number, open = true): Promise<void> {
+  if (!state.plan) return;
+  const plan = state.plan;
+  const d = await guard('Reading the stop', () => api.stop(plan, index));
+  if (!d) return;
+  state.selected = d;
+  mapView.stops.setSelected(index);
+  renderStopDetails();
+  if (open) ($('p-stop') as HTMLDetailsElement).open = true;
+}
+
+function renderStopZoneOptions(): void {
+  const sel = $('stop-zone') as HTMLSelectElement;
+  const keep = sel.value;
+  sel.innerHTML = '';
+  for (const z of state.view?.zones ?? []) sel.appendChild(h('option', { value: z.zone, text: `${z.zone}${z.name ? ` (${z.name})` : ''}` }));
+  if (keep) sel.value = keep;
+}
+
+function renderStopDetails(): void {
+  const d = state.selected;
+  const el = $('stop-details');
+  el.innerHTML = '';
+  $('stop-actions').hidden = !d;
+  if (!d) {
+    el.appendChild(h('p', { class: 'zp-hint', text: 'Click a stop on the map, or enter its id.' }));
+    return;
+  }
+  el.appendChild(
+    h(
+      'dl',
+      { class: 'zp-dl', 'data-stop-index': d.index, 'data-stop-zone': d.zone },
+      h('dt', { text: 'Stop' }), h('dd', { text: `${d.id} (#${d.index})` }),
+      h('dt', { text: 'Position' }), h('dd', { text: `${d.lat.toFixed(5)}, ${d.lon.toFixed(5)}` }),
+      h('dt', { text: 'Demand' }), h('dd', { text: fmt(d.demand, 2) }),
+      h('dt', { text: 'Zone' }), h('dd', { text: String(d.zone) }),
+      h('dt', { text: 'To centre' }), h('dd', { text: `${fmtKm(d.km)} (great-circle)` }),
+      h('dt', { text: 'Locked' }), h('dd', { text: d.locked ? 'yes: stays in its zone' : 'no' }),
+    ),
+  );
+  ($('stop-zone') as HTMLSelectElement).value = String(d.zone);
+  $('stop-lock').textContent = d.locked ? 'Unlock' : 'Lock';
+}
+
+$('stop-move').addEventListener('click', () => {
+  const d = state.selected;
+  if (!d) return;
+  const zone = Number(($('stop-zone') as HTMLSelectElement).value);
+  if (zone === d.zone) return status(`Stop ${d.id} is already in zone ${zone}`);
+  void applyEdit({ kind: 'move', stop: d.index, zone }, `Stop ${d.id} moved to zone ${zone}`);
+});
+$('stop-lock').addEventListener('click', () => {
+  const d = state.selected;
+  if (!d) return;
+  void applyEdit(d.locked ? { kind: 'unlock', stop: d.index } : { kind: 'lock', stop: d.index }, `Stop ${d.id} ${d.locked ? 'unlocked' : 'locked'}`);
+});
+$('stop-find').addEventListener('submit', (e) => {
+  e.preventDefault();
+  void (async () => {
+    const q = ($('stop-query') as HTMLInputElement).value.trim();
+    if (!q) return;
+    const ids = await stopIds();
+    let index = ids ? ids.indexOf(q) : -1;
+    if (index < 0 && /^#?\d+$/.test(q)) index = Number(q.replace('#', ''));
+    if (index < 0 || index >= (state.arrays?.count ?? 0)) return status(`No stop ${q} in this plan`, true);
+    await selectStop(index);
+  })();
+});
+
+// ---------------------------------------------------------------------------------------------
+// Project, plan list, stop sets
+
+async function refreshProject(): Promise<void> {
+  const p = await guard('Reading the project', () => api.project());
+  if (!p) return;
+  state.project = p;
+  renderPlanList();
+  renderStopSets();
+}
+
+function renderStopSets(): void {
+  const sets = state.project?.stopSets ?? [];
+  for (const id of ['run-stopset', 'rebalance-set']) {
+    const sel = $(id) as HTMLSelectElement;
+    const keep = sel.value;
+    sel.innerHTML = '';
+    for (const s of sets) sel.appendChild(h('option', { value: s.id, text: `#${s.id} ${s.source.split(/[\\/]/).pop()} (${fmt(s.stops)} stops)` }));
+    if (keep && sets.some((s) => String(s.id) === keep)) sel.value = keep;
+    else if (state.view && id === 'run-stopset') sel.value = String(state.view.info.stopSetId);
+    else if (sets.length) sel.value = String(sets[sets.length - 1]!.id);
+  }
+}
+
+function renderPlanList(): void {
+  const plans = state.project?.plans ?? [];
+  const list = $('plan-list');
+  list.innerHTML = '';
+  list.dataset['count'] = String(plans.length);
+  for (const p of plans) {
+    const current = p.name === state.plan;
+    const b = h('button', { type: 'button', 'data-plan': p.name, 'aria-label': `Open plan ${p.name}: ${p.zones} zones, ${p.stops} stops${p.edits ? `, ${p.edits} edits` : ''}` }, `${p.name} · ${p.zones} zones · ${fmt(p.stops)} stops${p.edits ? ` · ${p.edits} edits` : ''}`);
+    b.addEventListener('click', () => void openPlan(p.name));
+    list.appendChild(h('li', { 'aria-current': current ? 'true' : null }, b));
+  }
+  for (const [id, pick] of [['compare-a', 0], ['compare-b', 1]] as const) {
+    const sel = $(id) as HTMLSelectElement;
+    const keep = sel.value;
+    sel.innerHTML = '';
+    for (const p of plans) sel.appendChild(h('option', { value: p.name, text: p.name }));
+    if (keep && plans.some((p) => p.name === keep)) sel.value = keep;
+    else if (plans.length) sel.value = plans[Math.max(0, plans.length - 2 + pick)]!.name;
+  }
+}
+
+$('rename-form').addEventListener('submit', (e) => {
+  e.preventDefault();
+  void (async () => {
+    const to = ($('rename-to') as HTMLInputElement).value.trim();
+    const from = state.plan;
+    if (!from || !to) return;
+    const p = await guard('Rename', () => api.renamePlan(from, to));
+    if (!p) return;
+    state.project = p;
+    state.plan = to;
+    ($('rename-to') as HTMLInputElement).value = '';
+    const view = await guard('Reading the plan', () => api.plan(to));
+    if (view) render(view);
+    renderPlanList();
+    status(`Renamed ${from} to ${to}`);
+  })();
+});
+
+$('compare-form').addEventListener('submit', (e) => {
+  e.preventDefault();
+  void (async () => {
+    const a = ($('compare-a') as HTMLSelectElement).value;
+    const b = ($('compare-b') as HTMLSelectElement).value;
+    if (!a || !b) return;
+    const result = await guard('Compare', () => api.compare(a, b));
+    if (!result) return;
+    state.comparison = { a, b, result };
+    renderComparison();
+  })();
+});
+$('compare-clear').addEventListener('click', () => {
+  state.comparison = null;
+  mapView.stops.setHighlighted(null);
+  $('compare-result').innerHTML = '';
+});
+
+async function renderComparison(): Promise<void> {
+  const c = state.comparison;
+  const el = $('compare-result');
+  el.innerHTML = '';
+  if (!c) return;
+  const r = c.result;
+  el.appendChild(h('p', { 'data-changed': r.changedStops, text: `${fmt(r.changedStops)} of ${fmt(r.commonStops)} stops changed zone (demand ${fmt(r.changedDemand)}). Objective ${fmt(r.objectiveBeforeKm2)} → ${fmt(r.objectiveAfterKm2)} km².${r.changed.length < r.changedStops ? ` The map marks the first ${r.changed.length}.` : ''}` }));
+  const t = h('table', { class: 'zp-table', 'aria-label': `Workload per zone, ${c.a} then ${c.b}` }, h('thead', {}, h('tr', {}, ...['Zone', `Stops ${c.a}`, `Stops ${c.b}`, `Demand ${c.a}`, `Demand ${c.b}`].map((x) => h('th', { scope: 'col', text: x })))));
+  const tb = h('tbody');
+  for (const z of r.zones) tb.appendChild(h('tr', { 'data-zone': z.zone }, h('td', { text: z.name ?? z.zone }), h('td', { text: fmt(z.stopsBefore) }), h('td', { text: fmt(z.stopsAfter) }), h('td', { text: fmt(z.demandBefore) }), h('td', { text: fmt(z.demandAfter) })));
+  t.appendChild(tb);
+  el.appendChild(h('div', { class: 'zp-table-wrap' }, t));
+  // Highlight the changed stops that are in the plan on the map.
+  const ids = await stopIds();
+  if (!ids || !state.arrays) return;
+  const pos = new Map<string, number>();
+  ids.forEach((id, i) => pos.set(id, i));
+  const flags = new Uint8Array(state.arrays.count);
+  let marked = 0;
+  for (const ch of r.changed) {
+    const i = pos.get(ch.id);
+    if (i !== undefined) {
+      flags[i] = 1;
+      marked++;
+    }
+  }
+  mapView.stops.setHighlighted(marked ? flags : null);
+  $('map').dataset['highlighted'] = String(marked);
+}
+
+$('rebalance-form').addEventListener('submit', (e) => {
+  e.preventDefault();
+  void (async () => {
+    const plan = state.plan;
+    if (!plan) return;
+    const set = Number(($('rebalance-set') as HTMLSelectElement).value);
+    const budgetText = ($('rebalance-budget') as HTMLInputElement).value.trim();
+    const name = ($('rebalance-name') as HTMLInputElement).value.trim() || `${plan}-rebalanced`;
+    const budget = budgetText ? { stops: Number(budgetText) } : null;
+    status('Rebalancing…');
+    const out = await guard('Rebalance', () => api.rebalance(plan, set, name, budget));
+    if (!out) return;
+    const r = out.report;
+    $('rebalance-result').textContent = `Saved ${out.view.info.name}: ${r.added} new stops, ${r.removedStops} gone, ${r.moved} moved (demand ${fmt(r.movedDemand)}), ${r.forced} forced. ${r.feasible ? 'Every limit holds.' : 'Some limits do not hold.'} ${r.notes.join(' ')}`;
+    await refreshProject();
+    await openPlan(out.view.info.name, false);
+  })();
+});
+
+// ---------------------------------------------------------------------------------------------
+// Import
+
+function problemsTable(problems: readonly InputProblem[]): HTMLElement {
+  const t = h('table', { class: 'zp-table zp-problems' }, h('caption', { text: `${problems.length} problem${problems.length === 1 ? '' : 's'}` }), h('thead', {}, h('tr', {}, ...['Row', 'Field', 'Value', 'Problem'].map((x) => h('th', { scope: 'col', text: x })))));
+  const tb = h('tbody');
+  for (const p of problems.slice(0, 200)) {
+    tb.appendChild(
+      h(
+        'tr',
+        { class: p.severity === 'error' ? 'zp-over' : null, 'data-row': p.row ?? p.feature ?? '' },
+        h('td', { text: p.row !== undefined ? `row ${p.row}` : p.feature !== undefined ? `feature ${p.feature}` : '–' }),
+        h('td', { text: p.field ?? '' }),
+        h('td', { text: p.value ?? '' }),
+        h('td', { text: `${p.severity === 'error' ? 'Error' : 'Warning'}: ${p.message}${p.count && p.count > 1 ? ` (${p.count}×)` : ''}` }),
+      ),
+    );
+  }
+  t.appendChild(tb);
+  return h('div', { class: 'zp-table-wrap' }, t);
+}
+
+async function importFile(file: File): Promise<void> {
+  const report = $('import-report');
+  report.textContent = `Reading ${file.name}…`;
+  ($('p-import') as HTMLDetailsElement).open = true;
+  const text = await file.text();
+  const out = await guard('Import', () => api.importStops({ name: file.name, text }));
+  report.innerHTML = '';
+  if (!out) {
+    report.appendChild(h('p', { class: 'zp-err', 'data-import': 'failed', text: `${file.name} could not be imported. Nothing was imported.` }));
+    return;
+  }
+  if (!out.ok) {
+    report.appendChild(h('p', { class: 'zp-err', 'data-import': 'rejected', text: `${out.file}: ${out.errorCount} error${out.errorCount === 1 ? '' : 's'}. Nothing was imported.` }));
+    report.appendChild(problemsTable(out.problems));
+    status(`${file.name} not imported`, true);
+    return;
+  }
+  const s = out.stopSet;
+  report.appendChild(h('p', { class: 'zp-ok', 'data-import': 'ok', 'data-stop-set': s.id, text: `Imported ${fmt(s.stops)} stops (demand ${fmt(s.totalDemand)}) from ${s.source.split(/[\\/]/).pop()} as stop set #${s.id}.` }));
+  if (s.warnings.length) report.appendChild(problemsTable(s.warnings));
+  await refreshProject();
+  ($('run-stopset') as HTMLSelectElement).value = String(s.id);
+  ($('rebalance-set') as HTMLSelectElement).value = String(s.id);
+  status(`Imported stop set #${s.id}`);
+}
+
+$('import-file').addEventListener('change', () => {
+  const input = $('import-file') as HTMLInputElement;
+  const f = input.files?.[0];
+  if (f) void importFile(f).finally(() => (input.value = ''));
+});
+let dragDepth = 0;
+window.addEventListener('dragenter', (e) => {
+  if (!e.dataTransfer?.types.includes('Files')) return;
+  dragDepth++;
+  $('drop-overlay').hidden = false;
+});
+window.addEventListener('dragleave', () => {
+  dragDepth = Math.max(0, dragDepth - 1);
+  if (dragDepth === 0) $('drop-overlay').hidden = true;
+});
+window.addEventListener('dragover', (e) => e.preventDefault());
+window.addEventListener('drop', (e) => {
+  e.preventDefault();
+  dragDepth = 0;
+  $('drop-overlay').hidden = true;
+  const f = e.dataTransfer?.files[0];
+  if (f) void importFile(f);
+});
+
+// ---------------------------------------------------------------------------------------------
+// Plan runs
+
+function num(id: string): number | undefined {
+  const v = ($(id) as HTMLInputElement).value.trim();
+  return v === '' || !Number.isFinite(Number(v)) ? undefined : Number(v);
+}
+
+function runSettings(): RunSettings {
+  const auto = ($('run-auto') as HTMLInputElement).checked;
+  const balance = num('run-balance');
+  const s: { -readonly [K in keyof RunSettings]: RunSettings[K] } = { zones: auto ? 'auto' : Math.max(1, Math.round(num('run-zones') ?? 8)) };
+  const seed = num('run-seed'), capacity = num('run-capacity'), min = num('run-min'), max = num('run-max');
+  if (seed !== undefined) s.seed = Math.round(seed);
+  if (capacity !== undefined && capacity > 0) s.capacity = capacity;
+  if (balance !== undefined && balance > 0) s.balance = balance / 100;
+  if (min !== undefined && min > 0) s.minStops = Math.round(min);
+  if (max !== undefined && max > 0) s.maxStops = Math.round(max);
+  return s;
+}
+
+function defaultPlanName(): string {
+  const names = new Set((state.project?.plans ?? []).map((p) => p.name));
+  for (let i = (state.project?.plans.length ?? 0) + 1; ; i++) if (!names.has(`plan-${i}`)) return `plan-${i}`;
+}
+
+function showRun(r: RunStatus | null): void {
+  const bar = $('run-progress');
+  const state = r?.state ?? 'idle';
+  const f = r ? (r.state === 'done' ? 1 : Math.max(0, Math.min(1, r.fraction))) : 0;
+  bar.dataset['runState'] = state;
+  bar.setAttribute('aria-valuenow', String(Math.round(f * 100)));
+  bar.setAttribute('aria-valuetext', r ? `${state}: ${r.phase} ${Math.round(f * 100)}%` : 'idle');
+  $('run-bar').style.width = `${f * 100}%`;
+  $('run-message').textContent = r ? `${r.planName}: ${state === 'running' ? `${r.phase} ${Math.round(f * 100)}%` : state}${r.message ? ` — ${r.message}` : ''}` : '';
+  ($('run-start') as HTMLButtonElement).disabled = state === 'running';
+  ($('run-cancel') as HTMLButtonElement).disabled = state !== 'running';
+}
+
+async function pollRun(id: string): Promise<void> {
+  for (;;) {
+    await new Promise((r) => setTimeout(r, 150));
+    const r = await guard('Run status', () => api.runStatus(id));
+    if (!r) {
+      showRun(state.run ? { ...state.run, state: 'failed' } : null);
+      return;
+    }
+    state.run = r;
+    showRun(r);
+    if (r.state === 'running') continue;
+    if (r.state === 'done') {
+      await refreshProject();
+      await openPlan(r.planName);
+      status(`Plan ${r.planName} saved`);
+    } else if (r.state === 'cancelled') {
+      status(`Run ${r.planName} cancelled; no plan saved`);
+      await refreshProject();
+    } else status(`Run ${r.planName} failed: ${r.message ?? ''}`, true);
+    ($('run-name') as HTMLInputElement).value = defaultPlanName();
+    return;
+  }
+}
+
+$('run-form').addEventListener('submit', (e) => {
+  e.preventDefault();
+  if (state.run?.state === 'running') return;
+  void (async () => {
+    const set = Number(($('run-stopset') as HTMLSelectElement).value);
+    const name = ($('run-name') as HTMLInputElement).value.trim() || defaultPlanName();
+    if (!Number.isFinite(set) || set <= 0) return status('Import stops first', true);
+    const r = await guard('Run', () => api.startRun(set, runSettings(), name));
+    if (!r) return;
+    state.run = r;
+    showRun(r);
+    status(`Running ${name}…`);
+    await pollRun(r.id);
+  })();
+});
+$('run-cancel').addEventListener('click', () => {
+  const r = state.run;
+  if (!r || r.state !== 'running') return;
+  void guard('Cancel', () => api.cancelRun(r.id));
+});
+$('run-auto').addEventListener('change', () => {
+  ($('run-zones') as HTMLInputElement).disabled = ($('run-auto') as HTMLInputElement).checked;
+});
+
+// ---------------------------------------------------------------------------------------------
+// Export
+
+const EXPORT_FILES = { plan: 'plan.geojson', zones: 'zones.geojson', centres: 'centres.geojson', stops: 'stops.geojson', assignments: 'assignments.csv' } as const;
+for (const b of Array.from(document.querySelectorAll<HTMLButtonElement>('[data-export]'))) {
+  b.addEventListener('click', () => {
+    const kind = b.dataset['export'] as keyof typeof EXPORT_FILES;
+    const plan = state.plan;
+    if (!plan) return;
+    void (async () => {
+      const r = await guard('Export', () => api.exportPlan({ plan, kind, file: null }));
+      if (!r) return;
+      const name = `${plan}-${EXPORT_FILES[kind]}`;
+      if (r.content !== null) download(name, r.content, kind === 'assignments' ? 'text/csv' : 'application/geo+json');
+      $('export-message').textContent = `${r.file ?? name}: ${fmt(r.bytes)} bytes`;
+    })();
+  });
+}
+$('export-png').addEventListener('click', () => {
+  const plan = state.plan;
+  void guard('PNG', async () => {
+    const blob = await mapView.toPng(state.view?.zones ?? []);
+    download(`${plan ?? 'map'}-map.png`, blob, 'image/png');
+    $('export-message').textContent = `Map PNG: ${fmt(blob.size)} bytes`;
+  });
+});
+
+// ---------------------------------------------------------------------------------------------
+// Map settings (online tiles), kept in localStorage
+
+const TILE_KEY = 'zoneplan.tiles';
+$('tiles-form').addEventListener('submit', (e) => {
+  e.preventDefault();
+  const url = ($('tiles-url') as HTMLInputElement).value;
+  const attr = ($('tiles-attr') as HTMLInputElement).value;
+  if (url && !/^https:\/\/.+\{z\}.+\{x\}.+\{y\}/.test(url)) return status('The tile URL must be https and contain {z}, {x} and {y}', true);
+  mapView.setTiles(url, attr);
+  try {
+    localStorage.setItem(TILE_KEY, JSON.stringify({ url, attr }));
+  } catch {
+    /* storage unavailable */
+  }
+  status(url ? 'Online tiles on' : 'Offline outlines');
+});
+$('tiles-off').addEventListener('click', () => {
+  ($('tiles-url') as HTMLInputElement).value = '';
+  mapView.setTiles('', '');
+  try {
+    localStorage.removeItem(TILE_KEY);
+  } catch {
+    /* storage unavailable */
+  }
+  status('Offline outlines');
+});
+try {
+  const saved = JSON.parse(localStorage.getItem(TILE_KEY) ?? 'null') as { url: string; attr: string } | null;
+  if (saved?.url) {
+    ($('tiles-url') as HTMLInputElement).value = saved.url;
+    ($('tiles-attr') as HTMLInputElement).value = saved.attr;
+    mapView.setTiles(saved.url, saved.attr);
+  }
+} catch {
+  /* storage unavailable */
+}
+
+// ---------------------------------------------------------------------------------------------
+// Start
+
+async function start(): Promise<void> {
+  renderZoneTable();
+  showRun(null);
+  await refreshProject();
+  const plans = state.project?.plans ?? [];
+  ($('run-name') as HTMLInputElement).value = defaultPlanName();
+  const latest = [...plans].sort((a, b) => a.createdAt.localeCompare(b.createdAt)).pop();
+  if (latest) await openPlan(latest.name);
+  else status(state.project ? 'No plan yet: import stops and run one' : 'Not connected', !state.project);
+  // Two frames so the canvases have painted before the window reports itself ready.
+  requestAnimationFrame(() => requestAnimationFrame(() => (document.body.dataset['ready'] = '1')));
+}
+
+void start();

@@ -1,0 +1,207 @@
+/**
+ * The map: offline basemap (or an online tile layer from the settings), zone polygons, the
+ * stops canvas, zone centres sized by workload with a ring at the zone's 90th-percentile
+ * distance and a label, a legend and a scale bar.
+ */
+import L from 'leaflet';
+import type { ZoneRow } from '../src/api/types.js';
+import { OCEAN_COLOUR, offlineBasemap } from './basemap.js';
+import { zoneColour } from './palette.js';
+import { StopsLayer, type StopsData } from './stops-layer.js';
+import { fmt } from './format.js';
+
+export interface MapCallbacks {
+  onStopClick(index: number): void;
+  onCentreDrop(zone: number, lon: number, lat: number): void;
+}
+
+export class MapView {
+  readonly map: L.Map;
+  readonly stops = new StopsLayer();
+  private readonly vectorRenderer: L.Canvas;
+  private basemap: L.GeoJSON;
+  private tiles: L.TileLayer | null = null;
+  private polygons: L.GeoJSON | null = null;
+  private readonly centres = L.layerGroup();
+  private readonly rings = L.layerGroup();
+  private readonly legend: L.Control;
+  private legendEl: HTMLElement;
+  private data: StopsData | null = null;
+
+  constructor(el: HTMLElement, private readonly cb: MapCallbacks) {
+    el.style.background = OCEAN_COLOUR;
+    this.map = L.map(el, { preferCanvas: true, worldCopyJump: false, keyboard: true, zoomSnap: 0.25 }).setView([20, 0], 2);
+    this.vectorRenderer = L.canvas({ padding: 0.2 });
+    this.basemap = offlineBasemap(this.vectorRenderer).addTo(this.map);
+    this.rings.addTo(this.map);
+    this.stops.addTo(this.map);
+    this.centres.addTo(this.map);
+    L.control.scale({ metric: true, imperial: false, position: 'bottomleft' }).addTo(this.map);
+    this.legendEl = L.DomUtil.create('div', 'zp-legend');
+    this.legendEl.setAttribute('aria-label', 'Map legend');
+    const legendEl = this.legendEl;
+    const Legend = L.Control.extend({ onAdd: () => legendEl });
+    this.legend = new Legend({ position: 'bottomright' });
+    this.legend.addTo(this.map);
+    this.map.attributionControl.setPrefix('Leaflet');
+    this.map.attributionControl.addAttribution('Basemap: Natural Earth (world-atlas)');
+    this.map.on('click', (e: L.LeafletMouseEvent) => {
+      const hit = this.stops.hit(e.containerPoint);
+      if (hit !== null) this.cb.onStopClick(hit);
+    });
+  }
+
+  /** An online tile layer instead of the offline outlines; an empty URL goes back offline. */
+  setTiles(url: string, attribution: string): void {
+    if (this.tiles) this.tiles.remove();
+    this.tiles = null;
+    if (url.trim()) {
+      this.tiles = L.tileLayer(url.trim(), { attribution: attribution.trim() || url.trim(), maxZoom: 19 }).addTo(this.map);
+      this.basemap.remove();
+    } else if (!this.map.hasLayer(this.basemap)) {
+      this.basemap.addTo(this.map);
+    }
+  }
+
+  setStops(data: StopsData): void {
+    this.data = data;
+    this.stops.setData(data);
+  }
+
+  setBoundaries(fc: unknown | null): void {
+    if (this.polygons) this.polygons.remove();
+    this.polygons = null;
+    if (!fc || typeof fc !== 'object') return;
+    this.polygons = L.geoJSON(fc as GeoJSON.GeoJsonObject, {
+      renderer: this.vectorRenderer,
+      interactive: false,
+      style: (f) => {
+        const z = Number((f?.properties as { zone?: unknown } | null)?.zone ?? 0);
+        return { color: zoneColour(z), weight: 1.5, opacity: 0.9, fillColor: zoneColour(z), fillOpacity: 0.12 };
+      },
+    } as L.GeoJSONOptions).addTo(this.map);
+  }
+
+  /** Centres, rings and labels; `spreadKm[zone]` is the 90th-percentile distance of its stops. */
+  setZones(zones: readonly ZoneRow[], spreadKm: ReadonlyMap<number, number>, capacity: number | null): void {
+    this.centres.clearLayers();
+    this.rings.clearLayers();
+    const maxDemand = Math.max(1e-9, ...zones.map((z) => z.demand));
+    for (const z of zones) {
+      const [lon, lat] = z.centre;
+      const colour = zoneColour(z.zone);
+      const p90 = spreadKm.get(z.zone);
+      if (p90 !== undefined && p90 > 0) {
+        L.circle([lat, lon], { radius: p90 * 1000, renderer: this.vectorRenderer, interactive: false, color: colour, weight: 2, dashArray: '6 4', fill: false }).addTo(this.rings);
+      }
+      const d = Math.round(18 + 22 * Math.sqrt(z.demand / maxDemand));
+      const over = z.breaksLimits || (capacity !== null && z.demand > capacity);
+      const icon = L.divIcon({ className: `zp-centre${over ? ' zp-over' : ''}${z.fixed ? ' zp-fixed' : ''}`, iconSize: [d, d], html: `<span>${z.zone}</span>` });
+      const m = L.marker([lat, lon], { icon, draggable: true, keyboard: true, title: `Zone ${z.zone} centre (drag to pin)`, alt: `Zone ${z.zone} centre`, riseOnHover: true, autoPan: true });
+      m.on('add', () => {
+        const el = m.getElement();
+        if (el) {
+          el.style.background = colour;
+          el.dataset['zone'] = String(z.zone);
+          el.setAttribute('aria-label', `Zone ${z.zone} centre: ${z.stops} stops, demand ${fmt(z.demand)}${z.fixed ? ', pinned' : ''}`);
+        }
+      });
+      // Labels stay on up to 16 zones; with more they would cover each other, so they show on hover and focus.
+      m.bindTooltip(`${z.name ?? `Zone ${z.zone}`}: ${fmt(z.stops)} stops · ${fmt(z.demand)}`, { permanent: zones.length <= 16, direction: 'top', offset: [0, -d / 2], className: 'zp-centre-label' });
+      m.on('dragend', () => {
+        const ll = m.getLatLng();
+        this.cb.onCentreDrop(z.zone, ll.lng, ll.lat);
+      });
+      m.addTo(this.centres);
+    }
+    this.legendEl.innerHTML = '';
+    const title = document.createElement('strong');
+    title.textContent = 'Zones';
+    this.legendEl.appendChild(title);
+    const list = document.createElement('ul');
+    for (const z of zones) {
+      const li = document.createElement('li');
+      const sw = document.createElement('span');
+      sw.className = 'zp-swatch';
+      sw.style.background = zoneColour(z.zone);
+      li.append(sw, document.createTextNode(` ${z.name ?? z.zone}`));
+      list.appendChild(li);
+    }
+    this.legendEl.appendChild(list);
+    const key = document.createElement('div');
+    key.className = 'zp-legend-key';
+    key.textContent = 'Centre size: workload. Dashed ring: 90% of stops within. Square centre: pinned. Boxed stop: locked.';
+    this.legendEl.appendChild(key);
+  }
+
+  fitStops(): void {
+    const d = this.data;
+    if (!d || d.count === 0) return;
+    let w = 180, s = 90, e = -180, n = -90;
+    for (let i = 0; i < d.count; i++) {
+      const lon = d.lonLat[2 * i]!;
+      const lat = d.lonLat[2 * i + 1]!;
+      if (lon < w) w = lon;
+      if (lon > e) e = lon;
+      if (lat < s) s = lat;
+      if (lat > n) n = lat;
+    }
+    this.map.fitBounds([[s, w], [n, e]], { padding: [20, 20], animate: false });
+  }
+
+  fitZone(zone: number): void {
+    const d = this.data;
+    if (!d) return;
+    let w = 180, s = 90, e = -180, n = -90, any = false;
+    for (let i = 0; i < d.count; i++) {
+      if (d.label[i] !== zone) continue;
+      any = true;
+      const lon = d.lonLat[2 * i]!;
+      const lat = d.lonLat[2 * i + 1]!;
+      if (lon < w) w = lon;
+      if (lon > e) e = lon;
+      if (lat < s) s = lat;
+      if (lat > n) n = lat;
+    }
+    if (any) this.map.fitBounds([[s, w], [n, e]], { padding: [30, 30], animate: false });
+  }
+
+  /** One PNG of what the map shows: ocean, every canvas (basemap, polygons, rings, stops) and the centres. */
+  async toPng(zones: readonly ZoneRow[]): Promise<Blob> {
+    const container = this.map.getContainer();
+    const box = container.getBoundingClientRect();
+    const out = document.createElement('canvas');
+    out.width = Math.round(box.width);
+    out.height = Math.round(box.height);
+    const ctx = out.getContext('2d')!;
+    ctx.fillStyle = OCEAN_COLOUR;
+    ctx.fillRect(0, 0, out.width, out.height);
+    for (const c of Array.from(container.querySelectorAll('canvas'))) {
+      const r = c.getBoundingClientRect();
+      if (r.width === 0 || r.height === 0) continue;
+      ctx.drawImage(c, r.left - box.left, r.top - box.top, r.width, r.height);
+    }
+    const maxDemand = Math.max(1e-9, ...zones.map((z) => z.demand));
+    ctx.font = 'bold 12px sans-serif';
+    ctx.textAlign = 'center';
+    ctx.textBaseline = 'middle';
+    for (const z of zones) {
+      const p = this.map.latLngToContainerPoint([z.centre[1], z.centre[0]]);
+      const rad = (18 + 22 * Math.sqrt(z.demand / maxDemand)) / 2;
+      ctx.beginPath();
+      ctx.arc(p.x, p.y, rad, 0, 2 * Math.PI);
+      ctx.fillStyle = zoneColour(z.zone);
+      ctx.fill();
+      ctx.lineWidth = 2;
+      ctx.strokeStyle = '#ffffff';
+      ctx.stroke();
+      ctx.fillStyle = '#000000';
+      ctx.fillText(String(z.zone), p.x, p.y);
+    }
+    ctx.textAlign = 'left';
+    ctx.font = '11px sans-serif';
+    ctx.fillStyle = '#222222';
+    ctx.fillText('Great-circle (straight-line) distances, not drive times. Basemap: Natural Earth.', 8, out.height - 10);
+    return new Promise((resolve, reject) => out.toBlob((b) => (b ? resolve(b) : reject(new Error('The map could not be drawn to PNG.'))), 'image/png'));
+  }
+}
