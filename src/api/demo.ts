@@ -11,14 +11,14 @@ export const DEMO_PLAN_NAME = 'demo: 12 zones';
 
 /**
  * The demo project the app opens on the first start: the invented Tallowmere parcel stops with
- * one solved plan of 12 zones. Made once in `dir`; an existing one is used as it is.
+ * one solved plan of 12 zones whose workloads lie within ±10% of the mean. Made once in `dir`; an existing one is used as it is.
  */
 export async function ensureDemoProject(dir: string, stopsFile = path.join(appRoot(), 'demo-data', 'tallowmere-stops.csv')): Promise<string> {
   const file = path.join(dir, DEMO_PROJECT_NAME);
   if (existsSync(file)) return file;
   mkdirSync(dir, { recursive: true });
   const stops = { ...readStopsFile(stopsFile, { demand: 'parcels' }), source: path.basename(stopsFile) };
-  const solved = await solveStops(stops, { zones: 12, seed: 1, threads: 1 });
+  const solved = await solveStops(stops, { zones: 12, seed: 1, threads: 1, balance: 0.1 });
   const { geojson } = boundariesGeoJson(solved);
   // Made under a temporary name first: a half-made demo is never opened.
   const temp = path.join(dir, `.${DEMO_PROJECT_NAME}.${process.pid}.tmp`);
@@ -26,7 +26,7 @@ export async function ensureDemoProject(dir: string, stopsFile = path.join(appRo
   const h = await openProject(temp);
   try {
     h.store.addStopSet(stops);
-    await h.savePlan(solved, DEMO_PLAN_NAME, { request: { zones: 12, seed: 1 }, boundaries: geojson });
+    await h.savePlan(solved, DEMO_PLAN_NAME, { request: { zones: 12, seed: 1, balance: 0.1 }, boundaries: geojson });
   } finally {
     await h.close();
   }
