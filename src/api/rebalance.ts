@@ -11,7 +11,11 @@ import type { PlanComparison, RebalanceReport } from './types.js';
 export interface RebalanceOptions {
   /** Hard budget of moves (stops, or a share of total demand). */
   readonly budget?: MoveBudget;
-  /** Cost per unit of demand moved to another zone, km^2 (default 0). */
+  /**
+   * Cost per unit of demand moved to another zone, km^2. Default: DEFAULT_MOVE_SHARE of the old
+   * plan's mean squared km per unit of demand, so that a stop changes zone only where that
+   * saves distance clearly, not for ties or slivers of objective.
+   */
   readonly moveCostKm2?: number;
   /** New limits; default: those the plan was made with. */
   readonly limits?: LimitSettings | null;
@@ -28,6 +32,13 @@ export interface RebalanceOptions {
  * and the budget allow. Stops of a removed zone must move and do not count against the budget;
  * added zones start at the stops the current centres serve worst.
  */
+/**
+ * The default move cost as a share of the old plan's mean squared km per unit of demand. Our own
+ * choice (common practice, no source): small enough that real imbalances are still fixed, large
+ * enough that unchanged demand moves nothing.
+ */
+export const DEFAULT_MOVE_SHARE = 0.1;
+
 export function rebalancePlan(old: { stops: StopSet; plan: Plan }, stops: StopSet, options: RebalanceOptions = {}): { solved: SolvedPlan; report: RebalanceReport } {
   const { plan } = old;
   const oldK = plan.zoneIds.length;
@@ -112,7 +123,7 @@ export function rebalancePlan(old: { stops: StopSet; plan: Plan }, stops: StopSe
       fixed,
       locked,
       ...(options.budget ? { budget: options.budget } : {}),
-      ...(options.moveCostKm2 !== undefined ? { moveCostKm2: options.moveCostKm2 } : {}),
+      moveCostKm2: options.moveCostKm2 ?? defaultMoveCost(old.stops, plan),
       ...(options.centre ? { centre: options.centre } : {}),
       stopIds: stops.ids,
     },
@@ -249,4 +260,11 @@ export function comparePlans(a: { stops: StopSet; plan: Plan }, b: { stops: Stop
     objectiveBeforeKm2: fa.objectiveKm2,
     objectiveAfterKm2: fb.objectiveKm2,
   };
+}
+
+/** DEFAULT_MOVE_SHARE of the plan's objective per unit of its demand (km^2), 0 for an empty plan. */
+export function defaultMoveCost(stops: StopSet, plan: Plan): number {
+  let total = 0;
+  for (let i = 0; i < stops.demand.length; i++) total += stops.demand[i]!;
+  return total > 0 && Number.isFinite(plan.objectiveKm2) ? (DEFAULT_MOVE_SHARE * plan.objectiveKm2) / total : 0;
 }

@@ -507,7 +507,7 @@ function addProjectCommands(program: Command, io: CliIo): void {
     .requiredOption('--stops <file>', 'the new stops (CSV or GeoJSON; stops matched by id)')
     .requiredOption('--name <name>', 'name of the new plan version')
     .option('--max-moved <n|p%>', 'hard budget: at most n stops, or p% of the demand, change zone', budgetOption)
-    .option('--move-cost <km2>', 'cost per unit of demand moved, in km² (default 0: the budget alone holds stops)', positiveNumber('move-cost'))
+    .option('--move-cost <km2>', 'cost per unit of demand moved, in km² (default: a tenth of the old plan\'s mean squared km per unit of demand; 0: the budget alone holds stops)', positiveNumber('move-cost'))
     .option('--add-zones <n>', 'add n zones (new vans)', wholeNumber(0, 'add-zones'))
     .option('--remove-zones <list>', 'remove zones by label, e.g. 3,7 (a depot closes): their stops move', zoneListOption)
     .option('--capacity <Q>', 'new capacity for every zone (default: the plan\'s limits)', positiveNumber('capacity'))

@@ -163,6 +163,15 @@ describe('rebalancePlan: demand doubled in one town', () => {
     }
   });
 
+  it('moves nothing when nothing changed, with no budget and the default move cost', () => {
+    // The default move cost (DEFAULT_MOVE_SHARE of the plan's mean squared km per unit of
+    // demand) keeps stops where they are unless moving saves distance clearly.
+    const { solved, report } = rebalancePlan(old, t.stops);
+    expect(report.moved).toBe(0);
+    expect(Array.from(solved.plan.assignment)).toEqual(Array.from(old.plan.assignment));
+    expect(report.feasible).toBe(true);
+  });
+
   it('says how many moves the caps need when the budget is too small', () => {
     let message = '';
     try {
