@@ -101,6 +101,70 @@ const wholeProcess = {
 process.stderr.write(`${wholeProcess.wallMs} ms\n`);
 rmSync(work, { recursive: true, force: true });
 
+// Workload limits (balance band +-5%) and zone boundaries: bench/limits-case.ts, one process each.
+interface LimitsCase {
+  mode: string;
+  stops: number;
+  zones: number;
+  ms: number;
+  peakRssMB?: number;
+  lpObjectiveKm2?: number;
+  objectiveKm2?: number;
+  lowerBoundKm2?: number;
+  gap?: number;
+  feasible?: boolean;
+  iterations?: number;
+  converged?: boolean;
+  status?: string;
+  error?: string;
+}
+function runLimits(mode: string, stops: number, zones: number, timeoutMin: number): LimitsCase {
+  process.stderr.write(`bench: ${mode} ${stops} stops x ${zones} zones ... `);
+  const r = spawnSync(process.execPath, ['--max-old-space-size=8192', '--import', 'tsx', path.join(here, 'limits-case.ts'), mode, String(stops), String(zones)], {
+    cwd: root,
+    encoding: 'utf8',
+    timeout: timeoutMin * 60_000,
+  });
+  const line = r.stdout.trim().split('\n').pop() ?? '';
+  try {
+    const c = JSON.parse(line) as LimitsCase;
+    process.stderr.write(`${c.ms} ms\n`);
+    return c;
+  } catch {
+    const why = r.signal === 'SIGTERM' ? `not finished within ${timeoutMin} min` : (r.stderr || 'no output').slice(-300);
+    process.stderr.write(`${why}\n`);
+    return { mode, stops, zones, ms: Number.NaN, error: why };
+  }
+}
+const limits: LimitsCase[] = [];
+// The assignment step alone, ours and glpk.js on the same LP, up to the largest size glpk.js
+// finishes within 5 minutes here.
+for (const [stops, zones] of [
+  [2_000, 10],
+  [5_000, 20],
+  [10_000, 20],
+] as const) {
+  limits.push(runLimits('step', stops, zones, 5));
+  const g = runLimits('glpk', stops, zones, 5);
+  limits.push(g);
+  if (g.error) break;
+}
+limits.push(runLimits('step', 100_000, 50, 10));
+if (!quick) limits.push(runLimits('step', 1_000_000, 200, 10));
+// The whole limited plan.
+limits.push(runLimits('plan', 100_000, 50, 15));
+if (!quick) limits.push(runLimits('plan', 1_000_000, 200, 15));
+// Boundaries and zone statistics.
+limits.push(runLimits('zones', 100_000, 50, 10));
+limits.push(runLimits('zones', 1_000_000, 200, 15));
+
+// The map window: first draw of 100k stops in headless Chromium (test/e2e/draw-bench.mjs).
+process.stderr.write('bench: map window, first draw of 100k stops ... ');
+const draw = spawnSync(process.execPath, [path.join(root, 'test', 'e2e', 'draw-bench.mjs'), '--runs', '5'], { cwd: root, encoding: 'utf8', timeout: 10 * 60_000 });
+const drawLine = draw.stdout.trim().split('\n').pop() ?? '';
+const firstDraw = { line: draw.status === null ? 'not finished within 10 min' : drawLine || (draw.stderr || 'no output').slice(-300), exitCode: draw.status };
+process.stderr.write(`${firstDraw.line}\n`);
+
 const machine = {
   date: new Date().toISOString(),
   node: process.version,
@@ -116,7 +180,7 @@ const machine = {
   })(),
 };
 mkdirSync(path.join(here, 'results'), { recursive: true });
-writeFileSync(path.join(here, 'results', 'latest.json'), `${JSON.stringify({ machine, engine: results, wholeProcess }, null, 2)}\n`);
+writeFileSync(path.join(here, 'results', 'latest.json'), `${JSON.stringify({ machine, engine: results, wholeProcess, limits, firstDraw }, null, 2)}\n`);
 
 // Markdown for the README: each peer's time and objective as a ratio to Zoneplan's, same run.
 const lines = [
@@ -139,4 +203,22 @@ lines.push(
     (wholeProcess.phasesMs ? ` (read ${(wholeProcess.phasesMs.readMs! / 1000).toFixed(2)} s, plan ${(wholeProcess.phasesMs.solveMs! / 1000).toFixed(2)} s, write ${(wholeProcess.phasesMs.writeMs! / 1000).toFixed(2)} s)` : '') +
     `, ${wholeProcess.iterations ?? '?'} iterations, ${wholeProcess.converged ? 'converged' : 'not converged'}.`,
 );
+lines.push(
+  '',
+  'Workload limits (balance band ±5% of the mean zone demand, skewed demand) and zone boundaries:',
+  '',
+  '| case | stops | zones | engine | time (s) | objective (km²) | LP bound (km²) | gap | peak RSS (MB) |',
+  '|---|---:|---:|---|---:|---:|---:|---:|---:|',
+);
+const what: Record<string, string> = { step: 'assignment step', glpk: 'assignment step (LP)', plan: 'whole limited plan', zones: 'boundaries + statistics' };
+for (const c of limits) {
+  const engine = c.mode === 'glpk' ? 'glpk.js 5.0.0' : 'zoneplan';
+  const obj = c.mode === 'glpk' ? c.lpObjectiveKm2 : c.objectiveKm2;
+  const ours = c.mode === 'glpk' ? limits.find((o) => o.mode === 'step' && o.stops === c.stops && o.zones === c.zones) : undefined;
+  const vs = ours && !ours.error && !c.error ? ` (${(c.ms / ours.ms).toFixed(1)}× ours; LP ${((c.lpObjectiveKm2! / ours.lpObjectiveKm2!) - 1).toExponential(1)} rel.)` : '';
+  lines.push(
+    `| ${what[c.mode] ?? c.mode} | ${c.stops.toLocaleString('en')} | ${c.zones} | ${engine} | ${c.error ? c.error : (c.ms / 1000).toFixed(2) + vs} | ${obj !== undefined ? obj.toExponential(4) : '-'} | ${c.lowerBoundKm2 !== undefined ? c.lowerBoundKm2.toExponential(4) : c.mode === 'glpk' && c.lpObjectiveKm2 !== undefined ? c.lpObjectiveKm2.toExponential(4) : '-'} | ${c.gap !== undefined ? (c.gap * 100).toFixed(2) + '%' : '-'} | ${c.peakRssMB ?? '-'} |`,
+  );
+}
+lines.push('', `Map window (headless Debian Chromium, software rendering): ${firstDraw.line}.`);
 console.log(lines.join('\n'));

@@ -1,0 +1,14 @@
+import { clusteredStops } from './data.js';
+import { solveZones } from '../src/solve/kmeans.js';
+import { assignWithLimits, solveLimitLp } from '../src/solve/capacity.js';
+import { zoneBounds } from '../src/solve/limits.js';
+const n = Number(process.argv[2]), k = Number(process.argv[3]);
+const data = clusteredStops(n);
+const centres = solveZones({ units: data.units, demand: data.demand }, { zones: k, seed: 1, restarts: 1 }).centres;
+const { bounds } = zoneBounds({ balance: 0.05 }, k, data.demand, null);
+let t0 = performance.now();
+const lp = solveLimitLp(data.units, data.demand, centres, bounds, null);
+console.log(JSON.stringify({ lp: lp.lpObjectiveKm2, lb: lp.lowerBoundKm2, rel: (lp.lpObjectiveKm2-lp.lowerBoundKm2)/lp.lpObjectiveKm2, paths: lp.flow.augmentations, blocked: lp.blocked, ms: performance.now() - t0 }));
+t0 = performance.now();
+const lp2 = solveLimitLp(data.units, data.demand, centres, bounds, null, { warm: lp.prices });
+console.log(JSON.stringify({ warm: true, lp: lp2.lpObjectiveKm2, paths: lp2.flow.augmentations, ms: performance.now() - t0 }));
