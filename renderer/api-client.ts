@@ -86,7 +86,13 @@ export function createHttpApi(token: string, base = ''): Api {
 
 /** A readable message from any error an Api call may throw (HTTP or IPC). */
 export function errorMessage(e: unknown): string {
-  if (e instanceof ApiCallError) return e.message;
+  if (e instanceof ApiCallError) {
+    // Input problems: the first few, each with its row (or feature) and field.
+    const problems = (e.wire.problems ?? []).filter((p) => p.severity === 'error').slice(0, 3);
+    const where = (p: (typeof problems)[number]): string =>
+      [p.row !== undefined ? `row ${p.row}` : p.feature !== undefined ? `feature ${p.feature}` : '', p.field ? `field "${p.field}"` : '', p.message].filter(Boolean).join(', ');
+    return problems.length > 0 ? `${e.message}: ${problems.map(where).join('; ')}` : e.message;
+  }
   if (e && typeof e === 'object' && 'message' in e) return String((e as { message: unknown }).message);
   return String(e);
 }

@@ -629,8 +629,26 @@ function runSettings(): RunSettings {
   if (balance !== undefined && balance > 0) s.balance = balance / 100;
   if (min !== undefined && min > 0) s.minStops = Math.round(min);
   if (max !== undefined && max > 0) s.maxStops = Math.round(max);
+  if (depotsText) s.depots = depotsText;
   return s;
 }
+
+/** The fixed depots file chosen in the plan panel (its text goes with the run settings). */
+let depotsText: { name: string; text: string } | null = null;
+$('run-depots').addEventListener('change', () => {
+  const input = $('run-depots') as HTMLInputElement;
+  const f = input.files?.[0];
+  if (!f) return;
+  void f.text().then((text) => {
+    depotsText = { name: f.name, text };
+    ($('run-depots-clear') as HTMLButtonElement).disabled = false;
+  });
+});
+$('run-depots-clear').addEventListener('click', () => {
+  depotsText = null;
+  ($('run-depots') as HTMLInputElement).value = '';
+  ($('run-depots-clear') as HTMLButtonElement).disabled = true;
+});
 
 function defaultPlanName(): string {
   const names = new Set((state.project?.plans ?? []).map((p) => p.name));

@@ -18,6 +18,8 @@ export interface RunSettings {
   readonly maxStops?: number;
   /** A depots file (path on the main side) or none. */
   readonly depotsFile?: string;
+  /** Or a depots file's text, chosen in the window (name and text), e.g. in browser mode. */
+  readonly depots?: { readonly name: string; readonly text: string };
   readonly centre?: 'arc' | 'mean';
 }
 

@@ -31,6 +31,7 @@ import { comparePlans, rebalancePlan } from './rebalance.js';
 import { checkReport } from './report.js';
 import { sweepStops } from './sweep.js';
 import { readStopsText } from './text-import.js';
+import { withDepotsText } from './depots-text.js';
 import type { PlanComparison, PlanEditInput, PlanSettingsInput, ProjectPlanRow, RebalanceReport, StopFileOptions, SweepRow } from './types.js';
 import { UndoStacks, type EditStep } from './undo-stack.js';
 import { AppError } from './wire-error.js';
@@ -156,7 +157,9 @@ export class AppSession implements Api {
       if (r.status.state === 'running' && r.status.planName === name) throw new AppError('usage', `a run that saves plan "${name}" is already under way`);
     }
     const stops = h.store.loadStopSet(stopSetId);
-    const request = planSettings(settings);
+    if (settings.depotsFile !== undefined && settings.depots !== undefined) throw new AppError('usage', 'give the fixed depots as a file or as its text, not both');
+    // A bad depots file stops here, with its problems by row and field.
+    const { request, cleanup } = withDepotsText(planSettings(settings), settings.depots);
     const id = randomUUID();
     const status: RunRecord['status'] = { id, state: 'running', fraction: 0, phase: 'start', message: null, planName: name };
     const run = startPlanRun(
@@ -168,7 +171,7 @@ export class AppSession implements Api {
       },
       this.options.workerFactory,
     );
-    const ended = run.outcome.then(async (o) => {
+    const ended = run.outcome.finally(cleanup).then(async (o) => {
       if (status.state !== 'running') return;
       if (o.state === 'cancelled') {
         Object.assign(status, { state: 'cancelled', message: 'the plan run was cancelled; the saved plans are unchanged' });
@@ -375,8 +378,13 @@ export class AppSession implements Api {
 
   async sweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<readonly SweepRow[]> {
     const stops = this.need().store.loadStopSet(stopSetId);
-    const { zones: _zones, ...rest } = planSettings({ ...settings, zones: from });
-    return sweepStops(stops, rest, { from, to });
+    const { request, cleanup } = withDepotsText(planSettings({ ...settings, zones: from }), settings.depots);
+    const { zones: _zones, ...rest } = request;
+    try {
+      return await sweepStops(stops, rest, { from, to });
+    } finally {
+      cleanup();
+    }
   }
 
   async exportPlan(request: ExportRequest): Promise<ExportResult> {

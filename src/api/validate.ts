@@ -48,6 +48,7 @@ const settingsShape = {
   minStops: whole(0, 2 ** 31 - 1).optional(),
   maxStops: whole(1, 2 ** 31 - 1).optional(),
   depotsFile: filePath.optional(),
+  depots: z.strictObject({ name: text(1000).refine((s) => s.trim().length > 0, 'must name the file'), text: z.string().max(MAX_BODY_BYTES) }).optional(),
   centre: z.enum(['arc', 'mean']).optional(),
 };
 const runSettings = z.strictObject({ zones: z.union([whole(1, 32_767), z.literal('auto')]), ...settingsShape });

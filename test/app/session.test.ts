@@ -3,6 +3,7 @@ import path from 'node:path';
 import { Worker } from 'node:worker_threads';
 import * as GJV from 'geojson-validation';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ImportError } from '../../src/io/problems.js';
 import type { PlanView } from '../../src/api/app-types.js';
 import { solveStops } from '../../src/api/plan-file.js';
 import { listEdits, savePlanToProject } from '../../src/api/project.js';
@@ -110,6 +111,29 @@ describe('AppSession: plan runs in a worker thread', () => {
 
   it('refuses a run whose plan name is taken, before solving', async () => {
     await expect(session.startRun(1, { zones: 3 }, 'four zones')).rejects.toThrow(/four zones/);
+  });
+
+  it('takes fixed depots from a file chosen in the window: their zones keep their centres there', async () => {
+    const depots = { name: 'depots.csv', text: 'id,lat,lon\nNorth hub,51.45,12.55\nSouth hub,51.22,12.15\n' };
+    const r = await session.startRun(1, { zones: 4, seed: 5, depots }, 'with depots');
+    expect((await session.waitForRun(r.id)).state).toBe('done');
+    const view = await session.plan('with depots');
+    expect(view.zones.map((z) => z.fixed)).toEqual([true, true, false, false]);
+    expect(view.zones[0]!.centre[0]).toBeCloseTo(12.55, 9);
+    expect(view.zones[0]!.centre[1]).toBeCloseTo(51.45, 9);
+    expect(view.zones[1]!.centre[0]).toBeCloseTo(12.15, 9);
+    expect(view.zones[1]!.centre[1]).toBeCloseTo(51.22, 9);
+  });
+
+  it('refuses a bad depots file before any run, naming the file as chosen, its row and field', async () => {
+    const before = await session.project();
+    const depots = { name: 'hubs.csv', text: 'id,lat,lon\nA,51.4,12.5\nB,95,12.1\n' };
+    const err = await session.startRun(1, { zones: 4, depots }, 'bad depots').catch((e: unknown) => e);
+    expect(err).toBeInstanceOf(ImportError);
+    const problems = (err as ImportError).problems;
+    expect(problems[0]).toMatchObject({ file: 'hubs.csv', row: 3, field: 'lat' });
+    expect((err as ImportError).message).not.toMatch(/zoneplan-depots-/);
+    expect((await session.project()).plans).toEqual(before.plans);
   });
 
   it('cancels a long run within a second and leaves the saved plans as they were', async () => {

@@ -99,3 +99,28 @@ test('a balanced run shows progress to the end and opens the new plan, equal to 
   await shot(page, '02-balanced-plan');
   expect(errors).toEqual([]);
 });
+
+test('a fixed depots file chosen in the plan panel pins the first zone at the depot', async ({ openApp, app, errors }) => {
+  const page = await openApp();
+  const project = await app.call<ProjectInfo>('project');
+  const set = project.stopSets.find((x) => x.stops === 800)!;
+  const [w, s, e, n] = set.bbox;
+  const lon = +((w + e) / 2).toFixed(6);
+  const lat = +((s + n) / 2).toFixed(6);
+  await page.selectOption('#run-stopset', String(set.id));
+  await page.fill('#run-zones', '4');
+  await page.fill('#run-balance', '');
+  await page.fill('#run-name', 'e2e depot');
+  await page.setInputFiles('#run-depots', writeTemp('e2e-depots.csv', `id,lat,lon\nCentral hub,${lat},${lon}\n`));
+  await expect(page.locator('#run-depots-clear')).toBeEnabled();
+  await page.click('#run-start');
+  expect(await waitRunEnd(page)).toBe('done');
+  const view = await app.call<PlanView>('plan', 'e2e depot');
+  expect(view.zones[0]!.fixed).toBe(true);
+  expect(view.zones[0]!.centre[0]).toBeCloseTo(lon, 6);
+  expect(view.zones[0]!.centre[1]).toBeCloseTo(lat, 6);
+  expect(view.zones.slice(1).every((z) => !z.fixed)).toBe(true);
+  await page.click('#run-depots-clear');
+  await expect(page.locator('#run-depots-clear')).toBeDisabled();
+  expect(errors).toEqual([]);
+});
