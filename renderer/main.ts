@@ -561,12 +561,27 @@ function problemsTable(problems: readonly InputProblem[]): HTMLElement {
   return h('div', { class: 'zp-table-wrap' }, t);
 }
 
+/** A file's bytes as base64 (through a data: URL, which the browser makes without a JS loop). */
+function fileBase64(file: File): Promise<string> {
+  return new Promise((resolve, reject) => {
+    const reader = new FileReader();
+    reader.onload = () => {
+      const url = String(reader.result);
+      resolve(url.slice(url.indexOf(',') + 1));
+    };
+    reader.onerror = () => reject(reader.error ?? new Error(`${file.name} could not be read`));
+    reader.readAsDataURL(file);
+  });
+}
+
 async function importFile(file: File): Promise<void> {
   const report = $('import-report');
   report.textContent = `Reading ${file.name}…`;
   ($('p-import') as HTMLDetailsElement).open = true;
-  const text = await file.text();
-  const out = await guard('Import', () => api.importStops({ name: file.name, text }));
+  // The bytes go as they are (base64), so that the main side finds the encoding (UTF-16, Latin-1)
+  // as it does for files on disk.
+  const base64 = await fileBase64(file);
+  const out = await guard('Import', () => api.importStops({ name: file.name, base64 }));
   report.innerHTML = '';
   if (!out) {
     report.appendChild(h('p', { class: 'zp-err', 'data-import': 'failed', text: `${file.name} could not be imported. Nothing was imported.` }));

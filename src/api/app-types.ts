@@ -115,6 +115,15 @@ export interface RunStatus {
   readonly planName: string;
 }
 
+/**
+ * Where imported stops come from: a file on the main side; a dropped or chosen file's bytes
+ * (base64), read with the same encoding detection as files on disk; or its text, already decoded.
+ */
+export type ImportSource =
+  | { readonly file: string }
+  | { readonly name: string; readonly base64: string }
+  | { readonly name: string; readonly text: string };
+
 /** The result of an import: a stop set, or the problems that stopped it (nothing imported). */
 export type ImportOutcome =
   | { readonly ok: true; readonly stopSet: StopSetInfo }
@@ -154,7 +163,7 @@ export interface Api {
   newProject(file: string): Promise<ProjectInfo>;
   openProject(file: string): Promise<ProjectInfo>;
   /** Imports stops from a file on the main side, or from text (a dropped or chosen file) with its name. */
-  importStops(source: { readonly file: string } | { readonly name: string; readonly text: string }, options?: StopFileOptions): Promise<ImportOutcome>;
+  importStops(source: ImportSource, options?: StopFileOptions): Promise<ImportOutcome>;
   startRun(stopSetId: number, settings: RunSettings, planName: string): Promise<RunStatus>;
   runStatus(id: string): Promise<RunStatus>;
   cancelRun(id: string): Promise<RunStatus>;

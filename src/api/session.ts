@@ -12,6 +12,7 @@ import type {
   ExportRequest,
   ExportResult,
   ImportOutcome,
+  ImportSource,
   PlanArrays,
   PlanEdit,
   PlanInfo,
@@ -31,6 +32,7 @@ import { comparePlans, rebalancePlan } from './rebalance.js';
 import { checkReport } from './report.js';
 import { sweepStops } from './sweep.js';
 import { readStopsText } from './text-import.js';
+import { readStopsBytes } from '../io/read.js';
 import { withDepotsText } from './depots-text.js';
 import type { PlanComparison, PlanEditInput, PlanSettingsInput, ProjectPlanRow, RebalanceReport, StopFileOptions, SweepRow } from './types.js';
 import { UndoStacks, type EditStep } from './undo-stack.js';
@@ -135,10 +137,13 @@ export class AppSession implements Api {
     return this.project();
   }
 
-  async importStops(source: { readonly file: string } | { readonly name: string; readonly text: string }, options: StopFileOptions = {}): Promise<ImportOutcome> {
+  async importStops(source: ImportSource, options: StopFileOptions = {}): Promise<ImportOutcome> {
     const h = this.need();
     try {
-      const summary = 'file' in source ? await h.importStops(source.file, options) : await h.store.addStopSet(readStopsText(source.name, source.text, options));
+      const summary =
+        'file' in source
+          ? await h.importStops(source.file, options)
+          : h.store.addStopSet('base64' in source ? readStopsBytes(source.name, Buffer.from(source.base64, 'base64'), options) : readStopsText(source.name, source.text, options));
       const id = summary.id;
       const info = (await this.project()).stopSets.find((s) => s.id === id)!;
       return { ok: true, stopSet: info };

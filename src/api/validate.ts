@@ -37,6 +37,7 @@ const stopFileOptions = z.strictObject({
 
 const importSource = z.union([
   z.strictObject({ file: filePath }),
+  z.strictObject({ name: text(1000).refine((s) => s.trim().length > 0, 'must name the file'), base64: z.string().max(MAX_BODY_BYTES).regex(/^[A-Za-z0-9+/]*={0,2}$/, 'must be base64') }),
   z.strictObject({ name: text(1000).refine((s) => s.trim().length > 0, 'must name the file'), text: z.string().max(MAX_BODY_BYTES) }),
 ]);
 

@@ -40,9 +40,22 @@ export function readStopsFile(file: string, options: ReadStopsOptions = {}): Sto
     const code = (e as NodeJS.ErrnoException).code;
     throw fileError(name, 'unreadable', `cannot be read (${code ?? String(e)})`);
   }
+  return readStopsBytes(name, bytes, options);
+}
+
+/**
+ * Stops from a file's bytes (a file read here, or one the planner dropped on the window): the
+ * encoding found as for files on disk (byte order mark, UTF-16 without one, UTF-8, else
+ * Windows-1252, with a warning), binary files refused, the format from the options, the name's
+ * extension or the text. Throws ImportError.
+ */
+export function readStopsBytes(name: string, bytes: Uint8Array, options: ReadStopsOptions = {}): StopSet {
+  if (bytes.length > MAX_WHOLE_FILE_BYTES) {
+    throw fileError(name, 'too-large', `the file is ${(bytes.length / 2 ** 20).toFixed(0)} MB; files over ${MAX_WHOLE_FILE_BYTES / 2 ** 20} MB (about 10 million stops) are not read: split it into smaller files`);
+  }
   const decoded = decodeText(bytes);
   refuseBinary(name, bytes, decoded.text);
-  const format = options.format ?? formatOf(file, decoded.text);
+  const format = options.format ?? formatOf(name, decoded.text);
   const stops = format === 'geojson' ? parseStopsGeoJson(decoded.text, name, options) : parseStopsCsv(decoded.text, name, options);
   if (decoded.noBom) {
     return {
