@@ -110,3 +110,22 @@ export function validateArgs(method: string, args: unknown): readonly unknown[] 
   const issues = r.error.issues.slice(0, 10).map((i) => `${i.path.length > 0 ? `argument ${i.path.join('.')}` : 'arguments'}: ${i.message}`);
   throw new ArgsError(method, issues);
 }
+
+/**
+ * Browser mode takes no paths of files on this machine: the page has no business naming them
+ * (it sends a dropped file's bytes and gets exports back as content), and a leaked page address
+ * (its token) must not let anyone read or write the planner's files. The desktop window, whose
+ * paths come from its own file dialogs, is not limited by this.
+ */
+export function refuseFilePaths(method: string, args: readonly unknown[]): void {
+  const refuse = (what: string): never => {
+    throw new ArgsError(method, [`browser mode takes no file paths of this machine (${what}); choose or drop the file in the window instead`]);
+  };
+  const has = (o: unknown, key: string): boolean => typeof o === 'object' && o !== null && key in o && (o as Record<string, unknown>)[key] != null;
+  if (method === 'newProject' || method === 'openProject') refuse('a project file');
+  if (method === 'importStops' && has(args[0], 'file')) refuse('a stops file');
+  if (method === 'startRun' && has(args[1], 'depotsFile')) refuse('a depots file');
+  if (method === 'sweep' && has(args[3], 'depotsFile')) refuse('a depots file');
+  if (method === 'exportPlan' && has(args[0], 'file')) refuse('an export destination');
+}
+

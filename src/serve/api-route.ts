@@ -1,6 +1,6 @@
 import type { IncomingMessage, ServerResponse } from 'node:http';
 import type { Api, PlanArrays } from '../api/app-types.js';
-import { ArgsError, validateArgs } from '../api/validate.js';
+import { ArgsError, refuseFilePaths, validateArgs } from '../api/validate.js';
 import { toWireError } from '../api/wire-error.js';
 import { MAX_BODY_BYTES, META_HEADER, type WireError, type WireReply } from '../api/wire.js';
 import { sendJson } from './headers.js';
@@ -76,6 +76,7 @@ export async function handleApi(req: IncomingMessage, res: ServerResponse, route
   }
   try {
     const args = validateArgs(method, argsOf(body));
+    refuseFilePaths(method, args);
     const fn = session[method as keyof Api] as (...a: readonly unknown[]) => Promise<unknown>;
     const value = await fn.apply(session, [...args]);
     if (binary) {

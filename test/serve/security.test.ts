@@ -1,4 +1,4 @@
-import { mkdirSync, symlinkSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, symlinkSync, writeFileSync } from 'node:fs';
 import { request } from 'node:http';
 import { networkInterfaces } from 'node:os';
 import path from 'node:path';
@@ -249,6 +249,29 @@ describe('browser-mode server: the API', () => {
       expect(a.status, `${method} ${JSON.stringify(args)}`).toBe(400);
       expect(json(a).error!.kind).toBe('usage');
     }
+    expect((await session.project()).plans).toHaveLength(1);
+  });
+
+  it('takes no file paths of the machine: projects, stops, depots and export destinations (400)', async () => {
+    const dir = tempDir('paths');
+    const target = path.join(dir, 'out.geojson');
+    for (const [method, args] of [
+      ['openProject', ['/etc/passwd']],
+      ['newProject', [path.join(dir, 'new.zoneplan')]],
+      ['importStops', [{ file: '/etc/hosts' }]],
+      ['startRun', [1, { zones: 3, depotsFile: '/etc/hosts' }, 'x']],
+      ['sweep', [1, 2, 3, { depotsFile: '/etc/hosts' }]],
+      ['exportPlan', [{ plan: 'p1', kind: 'plan', file: target }]],
+    ] as [string, unknown[]][]) {
+      const a = await call(server.port, method, args);
+      expect(a.status, method).toBe(400);
+      expect(json(a).error!.message, method).toMatch(/browser mode takes no file paths/);
+    }
+    expect(existsSync(target)).toBe(false);
+    expect(existsSync(path.join(dir, 'new.zoneplan'))).toBe(false);
+    // The same export as content is answered.
+    const content = json(await call(server.port, 'exportPlan', [{ plan: 'p1', kind: 'plan', file: null }]));
+    expect(content.ok).toBe(true);
     expect((await session.project()).plans).toHaveLength(1);
   });
 
