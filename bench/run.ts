@@ -150,10 +150,10 @@ for (const [stops, zones] of [
   if (g.error) break;
 }
 limits.push(runLimits('step', 100_000, 50, 10));
-if (!quick) limits.push(runLimits('step', 1_000_000, 200, 10));
+if (!quick) limits.push(runLimits('step', 1_000_000, 200, 5));
 // The whole limited plan.
 limits.push(runLimits('plan', 100_000, 50, 15));
-if (!quick) limits.push(runLimits('plan', 1_000_000, 200, 15));
+if (!quick) limits.push(runLimits('plan', 1_000_000, 200, 5));
 // Boundaries and zone statistics.
 limits.push(runLimits('zones', 100_000, 50, 10));
 limits.push(runLimits('zones', 1_000_000, 200, 15));
