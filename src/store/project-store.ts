@@ -502,10 +502,18 @@ export class ProjectStore {
   }
 
   private editsWhere(where: 'e.id = ?' | 'e.plan_id = ?', value: number): StoredEdit[] {
-    const rows = this.sql(
-      `SELECT e.id, p.name AS plan, e.kind, e.stop_index, e.stop_id, e.from_zone, e.to_zone, e.lon, e.lat, e.at
-       FROM edits e JOIN plans p ON p.id = e.plan_id WHERE ${where} ORDER BY e.id`,
-    ).all(value) as EditRow[];
+    // Two literal statements (no SQL text is ever built from values).
+    const statement =
+      where === 'e.id = ?'
+        ? this.sql(
+            `SELECT e.id, p.name AS plan, e.kind, e.stop_index, e.stop_id, e.from_zone, e.to_zone, e.lon, e.lat, e.at
+             FROM edits e JOIN plans p ON p.id = e.plan_id WHERE e.id = ? ORDER BY e.id`,
+          )
+        : this.sql(
+            `SELECT e.id, p.name AS plan, e.kind, e.stop_index, e.stop_id, e.from_zone, e.to_zone, e.lon, e.lat, e.at
+             FROM edits e JOIN plans p ON p.id = e.plan_id WHERE e.plan_id = ? ORDER BY e.id`,
+          );
+    const rows = statement.all(value) as EditRow[];
     return rows.map(editFromRow);
   }
 
