@@ -1,6 +1,6 @@
 import { readStopsFile } from '../io/read.js';
 import type { StopSet } from '../io/stopset.js';
-import { writeFileAtomic } from '../io/atomic.js';
+import { writeFilesAtomic } from '../io/atomic.js';
 import path from 'node:path';
 import type { MultiPolygon, Polygon } from 'geojson';
 import { planGeoJsonChunks, layerGeoJsonChunks, DISTANCE_NOTE, type PlanLayers } from '../io/plan-geojson.js';
@@ -229,29 +229,34 @@ export function planLayers(solved: SolvedPlan, settings: BoundarySettings = {}):
   return { stops, plan, stats, boundaries, notes };
 }
 
-/** Writes the plan GeoJSON and/or assignments CSV, each all or nothing. Returns notes on the boundaries. */
+/**
+ * Writes the plan GeoJSON and/or assignments CSV, together all or nothing (a failure leaves
+ * neither half-written nor one without the other). Returns notes on the boundaries.
+ */
 export function writePlanFiles(solved: SolvedPlan, out: { geojson?: string; assignments?: string }, settings: BoundarySettings = {}): string[] {
-  if (out.assignments) writeFileAtomic(out.assignments, assignmentsCsvChunks(solved.stops, solved.plan, solved.figures));
-  if (!out.geojson) return [];
-  const layers = planLayers(solved, settings);
-  writeFileAtomic(out.geojson, planGeoJsonChunks(layers));
-  return layers.notes;
+  const files: { target: string; chunks: Iterable<string> }[] = [];
+  let notes: string[] = [];
+  if (out.geojson) {
+    const layers = planLayers(solved, settings);
+    files.push({ target: out.geojson, chunks: planGeoJsonChunks(layers) });
+    notes = layers.notes;
+  }
+  if (out.assignments) files.push({ target: out.assignments, chunks: assignmentsCsvChunks(solved.stops, solved.plan, solved.figures) });
+  writeFilesAtomic(files);
+  return notes;
 }
 
-/** Writes the separate layers (zones, centres, stops GeoJSON, assignments CSV) into a folder. */
+/** Writes the separate layers (zones, centres, stops GeoJSON, assignments CSV) into a folder, together all or nothing. */
 export function writePlanLayers(solved: SolvedPlan, dir: string, settings: BoundarySettings = {}): { files: string[]; notes: string[] } {
   const layers = planLayers(solved, settings);
-  const files: string[] = [];
+  const out: { target: string; chunks: Iterable<string> }[] = [];
   for (const layer of ['zones', 'centres', 'stops'] as const) {
     if (layer === 'zones' && !layers.boundaries) continue;
-    const file = path.join(dir, `${layer}.geojson`);
-    writeFileAtomic(file, layerGeoJsonChunks(layers, layer));
-    files.push(file);
+    out.push({ target: path.join(dir, `${layer}.geojson`), chunks: layerGeoJsonChunks(layers, layer) });
   }
-  const csv = path.join(dir, 'assignments.csv');
-  writeFileAtomic(csv, assignmentsCsvChunks(solved.stops, solved.plan, solved.figures));
-  files.push(csv);
-  return { files, notes: layers.notes };
+  out.push({ target: path.join(dir, 'assignments.csv'), chunks: assignmentsCsvChunks(solved.stops, solved.plan, solved.figures) });
+  writeFilesAtomic(out);
+  return { files: out.map((f) => f.target), notes: layers.notes };
 }
 
 /** The main job: read stops, plan K zones, write the plan files, report. */

@@ -48,6 +48,44 @@ const NODE_FS: AtomicFs = { openSync, writeSync: (fd, data) => writeSync(fd, dat
  * throwing chunk producer) removes the temporary file and leaves any old target as it was.
  */
 export function writeFileAtomic(target: string, chunks: Iterable<string> | string, fs: AtomicFs = NODE_FS): void {
+  writeFilesAtomic([{ target, chunks }], fs);
+}
+
+/**
+ * Writes files that belong together (a plan GeoJSON and its assignments CSV) all or nothing:
+ * every one goes to its temporary file first, and only when all are written and flushed are
+ * they renamed over their targets. A failure while writing leaves every target as it was.
+ */
+export function writeFilesAtomic(files: readonly { readonly target: string; readonly chunks: Iterable<string> | string }[], fs: AtomicFs = NODE_FS): void {
+  const pending: { temp: string; target: string }[] = [];
+  let current = files[0]?.target ?? '';
+  try {
+    for (const f of files) {
+      current = f.target;
+      pending.push({ temp: writeTemporary(f.target, f.chunks, fs), target: f.target });
+    }
+    while (pending.length > 0) {
+      const p = pending[0]!;
+      current = p.target;
+      fs.renameSync(p.temp, p.target);
+      pending.shift();
+    }
+  } catch (e) {
+    for (const p of pending) {
+      try {
+        fs.unlinkSync(p.temp);
+      } catch {
+        /* already gone */
+      }
+    }
+    if (e instanceof WriteError) throw e;
+    if ((e as NodeJS.ErrnoException)?.code) throw explainWriteError(current, e);
+    throw e;
+  }
+}
+
+/** Writes the chunks to a new temporary file beside target, flushed and closed; returns its path. */
+function writeTemporary(target: string, chunks: Iterable<string> | string, fs: AtomicFs): string {
   const dir = path.dirname(path.resolve(target));
   const temp = path.join(dir, `.${path.basename(target)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
   let fd: number | null = null;
@@ -58,7 +96,7 @@ export function writeFileAtomic(target: string, chunks: Iterable<string> | strin
     fs.fsyncSync(fd);
     fs.closeSync(fd);
     fd = null;
-    fs.renameSync(temp, target);
+    return temp;
   } catch (e) {
     if (fd !== null) {
       try {
@@ -72,8 +110,6 @@ export function writeFileAtomic(target: string, chunks: Iterable<string> | strin
     } catch {
       /* the temporary file may never have been created */
     }
-    if (e instanceof WriteError) throw e;
-    if ((e as NodeJS.ErrnoException)?.code) throw explainWriteError(target, e);
     throw e;
   }
 }

@@ -4,7 +4,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { WriteError, writeFileAtomic } from '../../src/io/atomic.js';
+import { WriteError, writeFileAtomic, writeFilesAtomic } from '../../src/io/atomic.js';
 
 let dir: string;
 beforeEach(() => {
@@ -138,5 +138,51 @@ describe('writeFileAtomic', () => {
     expect(e.message).toBe(`cannot write ${target}: the disk is full; nothing was written there`);
     expect(readFileSync(target, 'utf8')).toBe('old plan\n');
     expect(readdirSync(dir)).toEqual(['plan.geojson']);
+  });
+});
+
+describe('writeFilesAtomic: files that belong together', () => {
+  it('writes every file, and only then replaces the old ones', () => {
+    const a = path.join(dir, 'plan.geojson');
+    const b = path.join(dir, 'assignments.csv');
+    writeFileSync(a, 'old plan\n');
+    writeFilesAtomic([
+      { target: a, chunks: ['new ', 'plan\n'] },
+      { target: b, chunks: 'stop_id,zone\n' },
+    ]);
+    expect(readFileSync(a, 'utf8')).toBe('new plan\n');
+    expect(readFileSync(b, 'utf8')).toBe('stop_id,zone\n');
+    expect(readdirSync(dir).sort()).toEqual(['assignments.csv', 'plan.geojson']);
+  });
+
+  it('when the second cannot be written: neither is replaced or created, no temporary file left', () => {
+    const a = path.join(dir, 'plan.geojson');
+    const b = path.join(dir, 'missing', 'assignments.csv');
+    writeFileSync(a, 'old plan\n');
+    const e = writeError(() =>
+      writeFilesAtomic([
+        { target: a, chunks: 'new plan\n' },
+        { target: b, chunks: 'stop_id,zone\n' },
+      ]),
+    );
+    expect(e.message).toContain(b);
+    expect(readFileSync(a, 'utf8')).toBe('old plan\n');
+    expect(readdirSync(dir)).toEqual(['plan.geojson']);
+  });
+
+  it('when the first producer throws: the second is not written either', () => {
+    const a = path.join(dir, 'plan.geojson');
+    const b = path.join(dir, 'assignments.csv');
+    function* failing(): Generator<string> {
+      yield 'half';
+      throw new Error('producer failed');
+    }
+    expect(() =>
+      writeFilesAtomic([
+        { target: a, chunks: failing() },
+        { target: b, chunks: 'stop_id,zone\n' },
+      ]),
+    ).toThrow('producer failed');
+    expect(readdirSync(dir)).toEqual([]);
   });
 });
