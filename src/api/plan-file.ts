@@ -199,6 +199,29 @@ export interface BoundarySettings {
 }
 
 /**
+ * A solve result stand-in for a plan that was not just solved (read back from a file, or made by
+ * a rebalance), for the writers and reports: the plan's own figures, no start history.
+ */
+export function resultOfPlan(plan: Plan, objectiveKm2 = plan.objectiveKm2): SolvedPlan['result'] {
+  return {
+    zones: plan.zoneIds.length,
+    centres: plan.centres,
+    assignment: plan.assignment,
+    objectiveKm2,
+    iterations: plan.iterations,
+    converged: plan.converged,
+    bestRestart: 0,
+    restartObjectivesKm2: [],
+    startStops: plan.assignment.length,
+    seed: plan.settings.seed ?? 1,
+    reseeded: 0,
+    history: [],
+    distanceEvaluations: 0,
+    naiveDistanceEvaluations: 0,
+  };
+}
+
+/**
  * The plan with its statistics and zone boundaries, for writing or showing. Boundaries that
  * cannot be drawn (stops over more than a hemisphere, or a fault in drawing them) are left out
  * with a note; the plan itself is still there.

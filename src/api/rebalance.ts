@@ -5,7 +5,7 @@ import type { Plan } from '../solve/plan.js';
 import { rebalance, type MoveBudget } from '../solve/rebalance.js';
 import { SolveError } from '../solve/types.js';
 import { planFigures } from '../zones/stats.js';
-import type { SolvedPlan } from './plan-file.js';
+import { resultOfPlan, type SolvedPlan } from './plan-file.js';
 import type { PlanComparison, RebalanceReport } from './types.js';
 
 export interface RebalanceOptions {
@@ -156,7 +156,7 @@ export function rebalancePlan(old: { stops: StopSet; plan: Plan }, stops: StopSe
     limitSettings: limitsForNew ?? null,
   };
   const figures = planFigures(stops.units, stops.demand, newPlan.centres, newPlan.assignment);
-  const solved: SolvedPlan = { stops, plan: newPlan, result: { ...solveLike(newPlan, figures.objectiveKm2) }, figures };
+  const solved: SolvedPlan = { stops, plan: newPlan, result: { ...resultOfPlan(newPlan, figures.objectiveKm2) }, figures };
   const comparison = comparePlans(old, { stops, plan: newPlan });
   return {
     solved,
@@ -194,24 +194,6 @@ function remapLimits(l: LimitSettings, kept: number[], add: number): LimitSettin
   return out;
 }
 
-function solveLike(plan: Plan, objectiveKm2: number): SolvedPlan['result'] {
-  return {
-    zones: plan.zoneIds.length,
-    centres: plan.centres,
-    assignment: plan.assignment,
-    objectiveKm2,
-    iterations: plan.iterations,
-    converged: plan.converged,
-    bestRestart: 0,
-    restartObjectivesKm2: [],
-    startStops: plan.assignment.length,
-    seed: plan.settings.seed ?? 1,
-    reseeded: 0,
-    history: [],
-    distanceEvaluations: 0,
-    naiveDistanceEvaluations: 0,
-  };
-}
 
 /**
  * Compares two plans of (possibly different) stop sets: stops present in both that changed zone

@@ -9,12 +9,11 @@ import { ImportError, formatProblem } from '../io/problems.js';
 import { WriteError } from '../io/atomic.js';
 import { SolveError } from '../solve/types.js';
 import { checkPlanCanBeSaved, createProject, importStopsToProject, listPlans, loadPlan, planStopsFileToProject, savePlanToProject } from '../api/project.js';
-import { writePlanFiles, writePlanLayers, type SolvedPlan } from '../api/plan-file.js';
+import { resultOfPlan, writePlanFiles, writePlanLayers, type SolvedPlan } from '../api/plan-file.js';
 import { comparePlans, rebalancePlan } from '../api/rebalance.js';
 import { readPlanFile } from '../io/plan-reader.js';
 import { readStopsFile } from '../io/read.js';
 import { planFigures } from '../zones/stats.js';
-import type { Plan } from '../solve/plan.js';
 import { mkdirSync } from 'node:fs';
 import type { ProjectPlanRow } from '../api/types.js';
 import { ProjectError } from '../store/errors.js';
@@ -376,26 +375,6 @@ function zoneListOption(v: string): number[] {
   const parts = v.split(',').map((x) => x.trim()).filter(Boolean);
   if (parts.length === 0 || parts.some((x) => !/^\d+$/.test(x))) throw new InvalidArgumentError(`remove-zones must list zone numbers, e.g. 3,7, got "${v}"`);
   return parts.map(Number);
-}
-
-/** A solve result stand-in for a plan read back from a file (for the writers). */
-function resultOfPlan(plan: Plan): SolvedPlan['result'] {
-  return {
-    zones: plan.zoneIds.length,
-    centres: plan.centres,
-    assignment: plan.assignment,
-    objectiveKm2: plan.objectiveKm2,
-    iterations: plan.iterations,
-    converged: plan.converged,
-    bestRestart: 0,
-    restartObjectivesKm2: [],
-    startStops: plan.assignment.length,
-    seed: plan.settings.seed ?? 1,
-    reseeded: 0,
-    history: [],
-    distanceEvaluations: 0,
-    naiveDistanceEvaluations: 0,
-  };
 }
 
 function boundaryOptions(o: Record<string, unknown>): { boundaries?: boolean; marginKm?: number; serviceArea?: ReturnType<typeof readServiceAreaFile> } {
