@@ -268,12 +268,18 @@ export function readServiceAreaFile(file: string): Polygon | MultiPolygon {
       log.error({ code: 'not-polygon', ...where, field: 'geometry', value: showValue(geom.type ?? null), message: `a service area needs a valid Polygon or MultiPolygon: ${shown.length > 600 ? `${shown.slice(0, 597)}...` : shown}` });
       return;
     }
-    const list = geom.type === 'Polygon' ? [geom.coordinates as Position[][]] : (geom.coordinates as Position[][][]);
-    for (const rings of list) {
-      for (const ring of rings) {
-        for (const p of ring) {
+    const multi = geom.type === 'MultiPolygon';
+    const list = multi ? (geom.coordinates as Position[][][]) : [geom.coordinates as Position[][]];
+    for (let q = 0; q < list.length; q++) {
+      const rings = list[q]!;
+      for (let r = 0; r < rings.length; r++) {
+        const ring = rings[r]!;
+        for (let v = 0; v < ring.length; v++) {
+          const p = ring[v]!;
           if (!(Math.abs(p[0]!) <= 180 && Math.abs(p[1]!) <= 90)) {
-            log.error({ code: 'bad-coordinate', ...where, field: 'geometry.coordinates', value: showValue(p), message: 'positions must be [longitude -180..180, latitude -90..90]' });
+            // The field is the position's exact path, so that a lone geometry (no feature index) is still placed.
+            const path = `geometry.coordinates${multi ? `[${q}]` : ''}[${r}][${v}]`;
+            log.error({ code: 'bad-coordinate', ...where, field: path, value: showValue(p), message: 'positions must be [longitude -180..180, latitude -90..90]' });
             return;
           }
         }
