@@ -124,8 +124,8 @@ function* stopFeatures(l: PlanLayers, role: boolean): Generator<string> {
   const head = role ? '"role":"stop",' : '';
   let buffer = '';
   for (let i = 0; i < ids.length; i++) {
-    buffer += `{"type":"Feature","geometry":{"type":"Point","coordinates":[${deg6(lonLat[2 * i]!)},${deg6(lonLat[2 * i + 1]!)}]},"properties":{${head}"id":${JSON.stringify(ids[i])},"zone":${zoneIds[assignment[i]!]},"demand":${demand[i]},"km":${decimals(km[i]!, 3)}${locked && locked[i]! >= 0 ? ',"locked":true' : ''}${outside[i] ? ',"outsideZone":true' : ''}}}`;
-    if (i + 1 < ids.length) buffer += ',\n';
+    // Features are joined by ",\n" inside a chunk; collection() joins the chunks.
+    buffer += `${buffer ? ',\n' : ''}{"type":"Feature","geometry":{"type":"Point","coordinates":[${deg6(lonLat[2 * i]!)},${deg6(lonLat[2 * i + 1]!)}]},"properties":{${head}"id":${JSON.stringify(ids[i])},"zone":${zoneIds[assignment[i]!]},"demand":${demand[i]},"km":${decimals(km[i]!, 3)}${locked && locked[i]! >= 0 ? ',"locked":true' : ''}${outside[i] ? ',"outsideZone":true' : ''}}}`;
     if (buffer.length > 1 << 20) {
       yield buffer;
       buffer = '';

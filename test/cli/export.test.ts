@@ -175,7 +175,7 @@ describe('a bad service-area file exits 2, names file, feature and field, and wr
   it.each([
     ['bad-not-polygon.geojson', [/bad-not-polygon\.geojson: feature 1, field "geometry", value "LineString"/, /Polygon or MultiPolygon/]],
     ['bad-invalid-json.geojson', [/bad-invalid-json\.geojson: the file is not valid JSON/]],
-    ['bad-coordinate-range.geojson', [/bad-coordinate-range\.geojson: feature 1, field "geometry\.coordinates", value "\[191\.3,48\]"/, /longitude -180\.\.180/]],
+    ['bad-coordinate-range.geojson', [/bad-coordinate-range\.geojson: feature 1, field "geometry\.coordinates\[0\]\[1\]", value "\[191\.3,48\]"/, /longitude -180\.\.180/]],
     ['missing.geojson', [/missing\.geojson: no such file/]],
   ])('%s', async (name, messages) => {
     const r = await plan(`never-${name}`, ['--service-area', path.join(areas, name)]);

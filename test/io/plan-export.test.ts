@@ -22,6 +22,7 @@ import path from 'node:path';
 import Papa from 'papaparse';
 import type { Feature, FeatureCollection, Geometry } from 'geojson';
 import { readStopsFile } from '../../src/io/read.js';
+import { parseStopsCsv } from '../../src/io/csv.js';
 import type { StopSet } from '../../src/io/stopset.js';
 import { readPlanFile, type PlanFile } from '../../src/io/plan-reader.js';
 import { planLayers, solveStops, writePlanFiles, writePlanLayers, type SolvedPlan } from '../../src/api/plan-file.js';
@@ -373,5 +374,34 @@ describe('writePlanLayers: zones, centres, stops GeoJSON and assignments.csv [G]
     for (const f of z.features) if (f.geometry) expect(['Polygon', 'MultiPolygon']).toContain(f.geometry.type);
     const typed = z.features.filter((f) => f.geometry) as Feature<Poly>[];
     expect(typed.length).toBe(11);
+  });
+});
+
+describe('plans larger than one written chunk (1 MiB of stop features)', () => {
+  // 20 000 stops write about 3 MiB of stop features, so the text is joined from several chunks:
+  // JSON (RFC 8259) allows exactly one comma between array elements, and every file must parse.
+  it('the plan file and the stops layer parse as JSON and re-import whole', async () => {
+    let x = 12345;
+    const next = (): number => {
+      x = (Math.imul(x, 1103515245) + 12345) >>> 0;
+      return x / 2 ** 32;
+    };
+    const rows = ['id,lat,lon,demand'];
+    for (let i = 0; i < 20_000; i++) rows.push(`S${i},${(48 + next()).toFixed(6)},${(2 + next()).toFixed(6)},${1 + Math.floor(next() * 3)}`);
+    const big = parseStopsCsv(`${rows.join('\n')}\n`, 'big.csv');
+    const plan = await solveStops(big, { zones: 6, seed: 1, threads: 1 });
+    const dir = mkdtempSync(path.join(work, 'big-'));
+    writePlanFiles(plan, { geojson: path.join(dir, 'plan.geojson') });
+    writePlanLayers(plan, dir);
+    const planText = readFileSync(path.join(dir, 'plan.geojson'), 'utf8');
+    expect(planText.length).toBeGreaterThan(2 * 2 ** 20);
+    expect(planText).not.toMatch(/,\s*,/);
+    const doc = JSON.parse(planText) as Doc;
+    expect(doc.features.filter((f) => f.properties?.['role'] === 'stop')).toHaveLength(20_000);
+    const layer = readDoc(path.join(dir, 'stops.geojson')).doc;
+    expect(layer.features).toHaveLength(20_000);
+    const back = readPlanFile(path.join(dir, 'plan.geojson'));
+    expect(back.stops.ids).toEqual(big.ids);
+    expect(Array.from(back.plan.assignment)).toEqual(Array.from(plan.plan.assignment));
   });
 });
