@@ -5,13 +5,15 @@
  * 90th-percentile spread ring, from the stop arrays).
  *
  * Test hooks are data attributes only: body[data-ready="1"] once the first plan is drawn,
- * #run-progress[data-run-state], body[data-plan-name], #map[data-stop-count], #map[data-draw-ms].
+ * #run-progress[data-run-state], body[data-plan-name], #map[data-stop-count], #map[data-draw-ms],
+ * #centre-edit[data-zone|data-lon|data-lat|data-step-m|data-fixed] while a centre is moved by keyboard.
  */
 import 'leaflet/dist/leaflet.css';
 import './style.css';
 import type { Api, PlanArrays, PlanView, ProjectInfo, RunSettings, RunStatus, StopDetails } from '../src/api/app-types.js';
 import type { InputProblem, PlanComparison, ZoneRow } from '../src/api/types.js';
 import { createHttpApi, errorMessage } from './api-client.js';
+import { CentreEditor } from './centre-edit.js';
 import { MapView } from './map-view.js';
 import { sweepChart, workloadChart } from './charts.js';
 import { download, fmt, fmtKm, h, pct } from './format.js';
@@ -75,6 +77,7 @@ async function guard<T>(what: string, f: () => Promise<T>): Promise<T | undefine
 const mapView = new MapView($('map'), {
   onStopClick: (i) => void selectStop(i),
   onCentreDrop: (zone, lon, lat) => void applyEdit({ kind: 'pin-centre', zone, lon, lat }, `Zone ${zone} centre pinned`),
+  onCentreSelect: (zone) => centreEditor.start(zone),
 });
 
 /** Zone label of each array zone index (the zone rows are in index order). */
@@ -148,6 +151,7 @@ function render(view: PlanView, arrays?: PlanArrays): void {
   mapView.setBoundaries(view.boundaries);
   mapView.setZones(view.zones, spread, capacityOf(view));
   renderZoneTable();
+  centreEditor.sync();
   renderWorkloadChart();
   renderHistoryButtons();
   renderStopZoneOptions();
@@ -162,6 +166,7 @@ async function openPlan(name: string, fit = true): Promise<void> {
   const t0 = performance.now();
   const got = await guard(`Opening ${name}`, () => Promise.all([api.plan(name), api.planArrays(name)]));
   if (!got) return;
+  centreEditor.end();
   const t1 = performance.now();
   const [view, arrays] = got;
   state.plan = name;
@@ -189,12 +194,14 @@ async function afterEdit(view: PlanView, message: string): Promise<void> {
   status(message);
 }
 
-async function applyEdit(edit: Parameters<Api['edit']>[1], message: string): Promise<void> {
-  if (!state.plan) return;
+/** Records an edit and redraws; false when it was refused (the message is in the status line). */
+async function applyEdit(edit: Parameters<Api['edit']>[1], message: string): Promise<boolean> {
+  if (!state.plan) return false;
   const plan = state.plan;
   const view = await guard('Edit', () => api.edit(plan, edit));
   if (view) await afterEdit(view, message);
   else if (state.view) render(state.view); // put a dragged centre back
+  return view !== undefined;
 }
 
 async function undoRedo(which: 'undo' | 'redo'): Promise<void> {
@@ -217,8 +224,53 @@ document.addEventListener('keydown', (e) => {
   const t = e.target as HTMLElement | null;
   if (t && (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.isContentEditable)) return;
   e.preventDefault();
+  // A centre being moved from the keyboard goes back first: undo is of recorded edits.
+  if (centreEditor.active) centreEditor.cancel();
   const redo = e.key.toLowerCase() === 'y' || e.shiftKey;
   void undoRedo(redo ? 'redo' : 'undo');
+});
+
+// ---------------------------------------------------------------------------------------------
+// Zone centres from the keyboard (renderer/centre-edit.ts), and the keyboard help
+
+const centreEditor = new CentreEditor($('centre-edit'), {
+  zones: () => (state.view ? sortedZones(state.view) : []),
+  metresPerPixel: () => mapView.metresPerPixel(),
+  preview: (zone, lon, lat) => {
+    mapView.previewCentre(zone, lon, lat);
+    for (const tr of Array.from(document.querySelectorAll<HTMLElement>('#zone-table tbody tr'))) tr.classList.toggle('zp-row-active', zone !== null && tr.dataset['zone'] === String(zone));
+  },
+  pin: (zone, lon, lat) => applyEdit({ kind: 'pin-centre', zone, lon, lat }, `Zone ${zone} centre pinned at ${lat.toFixed(5)}, ${lon.toFixed(5)}`),
+  unpin: (zone, at) => applyEdit(at ? { kind: 'unpin-centre', zone, lon: at[0], lat: at[1] } : { kind: 'unpin-centre', zone }, `Zone ${zone} centre unpinned: no longer a fixed depot`),
+  status,
+  focusAfter: (zone) => document.querySelector<HTMLElement>(`#zone-table tbody tr[data-zone="${zone}"]`),
+});
+
+/** The zone C acts on: the focused zone row's, else the selected stop's, else the first in the table. */
+function zoneForKey(target: HTMLElement | null): number | null {
+  const row = target?.closest<HTMLElement>('#zone-table tbody tr[data-zone]');
+  if (row) return Number(row.dataset['zone']);
+  if (!state.view) return null;
+  if (state.selected && state.view.zones.some((z) => z.zone === state.selected!.zone)) return state.selected.zone;
+  return sortedZones(state.view)[0]?.zone ?? null;
+}
+
+document.addEventListener('keydown', (e) => {
+  if (e.ctrlKey || e.metaKey || e.altKey || e.defaultPrevented) return;
+  const t = e.target as HTMLElement | null;
+  if (t && (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.tagName === 'SELECT' || t.isContentEditable)) return;
+  if (t && $('centre-edit').contains(t)) return;
+  if (e.key === 'c' || e.key === 'C') {
+    const zone = zoneForKey(t);
+    if (zone === null) return;
+    e.preventDefault();
+    centreEditor.start(zone);
+  } else if (e.key === '?') {
+    e.preventDefault();
+    const panel = $('p-keys') as HTMLDetailsElement;
+    panel.open = true;
+    panel.querySelector('summary')?.focus();
+  }
 });
 
 // ---------------------------------------------------------------------------------------------
@@ -240,9 +292,16 @@ function sortValue(z: ZoneRow, key: SortKey): number {
   return z[key];
 }
 
+/** The zones in the order the zone table shows them. */
+function sortedZones(view: PlanView): ZoneRow[] {
+  return [...view.zones].sort((a, b) => (sortValue(a, state.sort.key) - sortValue(b, state.sort.key)) * state.sort.dir || a.zone - b.zone);
+}
+
 function renderZoneTable(): void {
   const view = state.view;
   const table = $('zone-table');
+  // A focused zone row keeps the focus when the table is drawn again (after an edit, undo, redo).
+  const focusedZone = document.activeElement instanceof HTMLElement ? document.activeElement.closest<HTMLElement>('#zone-table tbody tr[data-zone]')?.dataset['zone'] : undefined;
   const headRow = table.querySelector('thead tr')!;
   headRow.innerHTML = '';
   for (const c of COLUMNS) {
@@ -261,7 +320,7 @@ function renderZoneTable(): void {
   body.innerHTML = '';
   if (!view) return;
   const cap = capacityOf(view);
-  const rows = [...view.zones].sort((a, b) => (sortValue(a, state.sort.key) - sortValue(b, state.sort.key)) * state.sort.dir || a.zone - b.zone);
+  const rows = sortedZones(view);
   for (const z of rows) {
     const over = z.breaksLimits || (cap !== null && z.demand > cap * (1 + 1e-9));
     const u = z.utilisation ?? (cap ? z.demand / cap : null);
@@ -271,7 +330,13 @@ function renderZoneTable(): void {
     sw.style.background = zoneColour(z.zone);
     const tr = h(
       'tr',
-      { tabindex: 0, 'data-zone': z.zone, class: over ? 'zp-over' : null, 'aria-label': `Zone ${z.zone}${z.name ? ` (${z.name})` : ''}: ${z.stops} stops, demand ${fmt(z.demand)}${u !== null ? `, ${pct(u)} of capacity` : ''}${over ? ', breaks its limits' : ''}. Enter zooms to it.` },
+      {
+        tabindex: 0,
+        'data-zone': z.zone,
+        class: [over ? 'zp-over' : '', centreEditor.zone === z.zone ? 'zp-row-active' : ''].join(' ').trim() || null,
+        'aria-keyshortcuts': 'Enter C',
+        'aria-label': `Zone ${z.zone}${z.name ? ` (${z.name})` : ''}: ${z.stops} stops, demand ${fmt(z.demand)}${u !== null ? `, ${pct(u)} of capacity` : ''}${over ? ', breaks its limits' : ''}${z.fixed ? ', centre pinned' : ''}. Enter zooms to it; C moves its centre with the arrow keys.`,
+      },
       h('td', {}, sw, ` ${z.name ?? z.zone}${z.fixed ? ' ⚓' : ''}`),
       h('td', { 'data-col': 'stops', text: fmt(z.stops) }),
       h('td', { 'data-col': 'demand', text: fmt(z.demand, Number.isInteger(z.demand) ? 0 : 1) }),
@@ -292,6 +357,7 @@ function renderZoneTable(): void {
       }
     });
     body.appendChild(tr);
+    if (focusedZone === String(z.zone)) tr.focus();
   }
   const over = view.zones.filter((z) => z.breaksLimits).length;
   $('zones-summary').textContent = `Objective ${fmt(view.objectiveKm2)} km² · workload spread (CV) ${fmt(view.demandCv, 3)}${view.maxMinRatio !== null ? ` · largest/smallest ${fmt(view.maxMinRatio, 2)}` : ''}${over ? ` · ${over} zone${over === 1 ? '' : 's'} over limits` : ''}${view.notes.length ? ` · ${view.notes.join('; ')}` : ''}`;

@@ -13,6 +13,8 @@ import { fmt } from './format.js';
 export interface MapCallbacks {
   onStopClick(index: number): void;
   onCentreDrop(zone: number, lon: number, lat: number): void;
+  /** A centre was clicked, or chosen on its focused marker with Enter or C. */
+  onCentreSelect(zone: number): void;
 }
 
 export class MapView {
@@ -27,6 +29,9 @@ export class MapView {
   private readonly legend: L.Control;
   private legendEl: HTMLElement;
   private data: StopsData | null = null;
+  private readonly markers = new Map<number, L.Marker>();
+  /** The centre being moved from the keyboard, where it is shown. */
+  private editing: { zone: number; lon: number; lat: number } | null = null;
 
   constructor(el: HTMLElement, private readonly cb: MapCallbacks) {
     el.style.background = OCEAN_COLOUR;
@@ -85,6 +90,7 @@ export class MapView {
   /** Centres, rings and labels; `spreadKm[zone]` is the 90th-percentile distance of its stops. */
   setZones(zones: readonly ZoneRow[], spreadKm: ReadonlyMap<number, number>, capacity: number | null): void {
     this.centres.clearLayers();
+    this.markers.clear();
     this.rings.clearLayers();
     const maxDemand = Math.max(1e-9, ...zones.map((z) => z.demand));
     for (const z of zones) {
@@ -97,15 +103,26 @@ export class MapView {
       const d = Math.round(18 + 22 * Math.sqrt(z.demand / maxDemand));
       const over = z.breaksLimits || (capacity !== null && z.demand > capacity);
       const icon = L.divIcon({ className: `zp-centre${over ? ' zp-over' : ''}${z.fixed ? ' zp-fixed' : ''}`, iconSize: [d, d], html: `<span>${z.zone}</span>` });
-      const m = L.marker([lat, lon], { icon, draggable: true, keyboard: true, title: `Zone ${z.zone} centre (drag to pin)`, alt: `Zone ${z.zone} centre`, riseOnHover: true, autoPan: true });
+      const editing = this.editing?.zone === z.zone ? this.editing : null;
+      const m = L.marker(editing ? [editing.lat, editing.lon] : [lat, lon], { icon, draggable: true, keyboard: true, title: `Zone ${z.zone} centre: drag to pin it; click, Enter or C opens the centre bar (arrow keys, pin, unpin)`, alt: `Zone ${z.zone} centre`, riseOnHover: true, autoPan: true });
       m.on('add', () => {
         const el = m.getElement();
         if (el) {
           el.style.background = colour;
           el.dataset['zone'] = String(z.zone);
-          el.setAttribute('aria-label', `Zone ${z.zone} centre: ${z.stops} stops, demand ${fmt(z.demand)}${z.fixed ? ', pinned' : ''}`);
+          el.setAttribute('aria-label', `Zone ${z.zone} centre: ${z.stops} stops, demand ${fmt(z.demand)}${z.fixed ? ', pinned' : ''}. Enter or C moves it with the arrow keys.`);
+          el.classList.toggle('zp-centre-active', this.editing?.zone === z.zone);
+          el.addEventListener('keydown', (e) => {
+            if (e.ctrlKey || e.metaKey || e.altKey || !(e.key === 'Enter' || e.key === 'c' || e.key === 'C')) return;
+            e.preventDefault();
+            e.stopPropagation();
+            this.cb.onCentreSelect(z.zone);
+          });
         }
       });
+      // Leaflet fires no click at the end of a drag.
+      m.on('click', () => this.cb.onCentreSelect(z.zone));
+      this.markers.set(z.zone, m);
       // Labels stay on up to 16 zones; with more they would cover each other, so they show on hover and focus.
       m.bindTooltip(`${z.name ?? `Zone ${z.zone}`}: ${fmt(z.stops)} stops · ${fmt(z.demand)}`, { permanent: zones.length <= 16, direction: 'top', offset: [0, -d / 2], className: 'zp-centre-label' });
       m.on('dragend', () => {
@@ -132,6 +149,35 @@ export class MapView {
     key.className = 'zp-legend-key';
     key.textContent = 'Centre size: workload. Dashed ring: 90% of stops within. Square centre: pinned. Boxed stop: locked.';
     this.legendEl.appendChild(key);
+  }
+
+  /**
+   * Shows a zone's centre at a position and marks it as the one being moved from the keyboard
+   * (the map pans to keep it in view); null ends the marking and leaves the markers where they are.
+   */
+  previewCentre(zone: number | null, lon: number, lat: number): void {
+    for (const [z, m] of this.markers) m.getElement()?.classList.toggle('zp-centre-active', z === zone);
+    if (zone === null) {
+      this.editing = null;
+      return;
+    }
+    this.editing = { zone, lon, lat };
+    const m = this.markers.get(zone);
+    if (!m) return;
+    const ll = L.latLng(lat, lon);
+    m.setLatLng(ll);
+    this.map.panInside(ll, { padding: [60, 60], animate: false });
+  }
+
+  /** Ground metres per screen pixel across the middle of the map. */
+  metresPerPixel(): number {
+    const size = this.map.getSize();
+    const y = size.y / 2;
+    const half = Math.max(1, Math.min(50, size.x / 4));
+    const a = this.map.containerPointToLatLng([size.x / 2 - half, y]);
+    const b = this.map.containerPointToLatLng([size.x / 2 + half, y]);
+    const m = this.map.distance(a, b) / (2 * half);
+    return Number.isFinite(m) && m > 0 ? m : 100;
   }
 
   fitStops(): void {

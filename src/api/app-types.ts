@@ -100,7 +100,9 @@ export type PlanEdit =
   | { readonly kind: 'lock'; readonly stop: number }
   | { readonly kind: 'unlock'; readonly stop: number }
   /** Move a zone's centre and pin it there (a fixed depot). */
-  | { readonly kind: 'pin-centre'; readonly zone: number; readonly lon: number; readonly lat: number };
+  | { readonly kind: 'pin-centre'; readonly zone: number; readonly lon: number; readonly lat: number }
+  /** Free a pinned zone centre (no longer a fixed depot); with a position, the centre also goes back there. */
+  | { readonly kind: 'unpin-centre'; readonly zone: number; readonly lon?: number; readonly lat?: number };
 
 export type RunState = 'running' | 'done' | 'cancelled' | 'failed';
 

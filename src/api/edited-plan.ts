@@ -6,11 +6,11 @@ import type { LoadedPlan } from './project.js';
 
 /**
  * A saved plan as the planner sees it now: the plan as solved with its manual edits applied in
- * order (stops moved, locked and unlocked, zone centres pinned), and its figures recomputed.
+ * order (stops moved, locked and unlocked, zone centres pinned and freed), and its figures recomputed.
  */
 export interface EditedPlan extends SolvedPlan {
   readonly loaded: LoadedPlan;
-  /** 1 for zones whose centre was pinned by hand (a fixed depot). */
+  /** 1 for zones whose centre is a fixed depot now: the plan's depots and the centres pinned by hand, less those freed since. */
   readonly pinned: Uint8Array;
   /** The zone each stop is locked to, or -1. */
   readonly locked: Int32Array;
@@ -34,6 +34,9 @@ export function applyEdits(loaded: LoadedPlan, edits: readonly StoredEdit[]): Ed
     else if (e.kind === 'pin-centre' && e.toZone !== null && e.lon !== null && e.lat !== null) {
       centres.set(unitFromLonLat(e.lon, e.lat), 3 * e.toZone);
       pinned[e.toZone] = 1;
+    } else if (e.kind === 'unpin-centre' && e.toZone !== null) {
+      if (e.lon !== null && e.lat !== null) centres.set(unitFromLonLat(e.lon, e.lat), 3 * e.toZone);
+      pinned[e.toZone] = 0;
     }
   }
   if (edits.length === 0) return { ...loaded, loaded, pinned, locked, edits: 0 };

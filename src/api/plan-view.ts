@@ -25,14 +25,14 @@ export function planInfo(p: EditedPlan): PlanInfo {
   };
 }
 
-/** Zone rows of the plan now: limits checked against the zones as edited, pinned centres fixed. */
+/** Zone rows of the plan now: limits checked against the zones as edited, centres fixed as pinned and freed since. */
 function rows(p: EditedPlan): ZoneRow[] {
   const out = zoneRows(p.plan, p.figures);
   if (p.edits === 0) return out;
   return out.map((z, j) => {
     const over = z.maxDemand !== null && z.demand > z.maxDemand * (1 + 1e-9);
     const under = z.minDemand !== null && z.demand < z.minDemand * (1 - 1e-9);
-    return { ...z, fixed: z.fixed || p.pinned[j] === 1, breaksLimits: over || under };
+    return { ...z, fixed: p.pinned[j] === 1, breaksLimits: over || under };
   });
 }
 

@@ -186,12 +186,13 @@ function editFrom(store: ProjectStore, planName: string, edit: PlanEditInput): P
   const info = store.planInfo(planName);
   const zoneIds = store.zoneIds(planName);
   const bad = (message: string): ProjectError => new ProjectError(message, 'bad-edit', store.file);
-  const kinds = ['move', 'lock', 'unlock', 'pin-centre'];
+  const kinds = ['move', 'lock', 'unlock', 'pin-centre', 'unpin-centre'];
   if (!edit || typeof edit !== 'object' || !kinds.includes(edit.kind)) {
     throw bad(`an edit needs a kind: ${kinds.join(', ')}; got ${JSON.stringify((edit as { kind?: unknown } | null)?.kind)}`);
   }
   const add: { -readonly [K in keyof EditToAdd]: EditToAdd[K] } = { kind: edit.kind };
-  if (edit.kind !== 'pin-centre') {
+  const centre = edit.kind === 'pin-centre' || edit.kind === 'unpin-centre';
+  if (!centre) {
     if (edit.stopId !== undefined) {
       if (typeof edit.stopId !== 'string') throw bad(`stopId must be a stop id (text), got ${JSON.stringify(edit.stopId)}`);
       const i = store.stopIndexOf(info.stopSetId, edit.stopId);
@@ -208,7 +209,7 @@ function editFrom(store: ProjectStore, planName: string, edit: PlanEditInput): P
     const z = zoneIds.indexOf(edit.zone);
     if (z < 0) throw bad(`plan "${info.name}" has no zone ${JSON.stringify(edit.zone)}; its zones are ${zoneIds[0]}..${zoneIds[zoneIds.length - 1]}`);
     add.toZone = z;
-  } else if (edit.kind === 'move' || edit.kind === 'pin-centre') throw bad(`a ${edit.kind} edit needs the zone`);
+  } else if (edit.kind === 'move' || centre) throw bad(`a ${edit.kind} edit needs the zone`);
   return editRow(store.appendEdit(planName, add), zoneIds);
 }
 
@@ -324,7 +325,7 @@ export async function renamePlan(file: string, from: string, to: string): Promis
   return withStore(file, true, (store) => planRow(store.renamePlan(from, to)));
 }
 
-/** Records a manual edit (stop moved, locked, unlocked; a zone centre pinned) against a saved plan. */
+/** Records a manual edit (stop moved, locked, unlocked; a zone centre pinned or freed) against a saved plan. */
 export async function appendEdit(file: string, plan: string, edit: PlanEditInput): Promise<PlanEditRow> {
   return withStore(file, true, (store) => editFrom(store, plan, edit));
 }

@@ -279,15 +279,20 @@ export class AppSession implements Api {
 
   // ---- manual edits
 
-  /** The edit that takes `edit` back, from the plan as it is before it. */
+  /**
+   * The edit that takes `edit` back, from the plan as it is before it. A centre edit is undone by
+   * the centre's position and state before it: pinned there again, or freed there (the position
+   * goes with the unpin, so the centre comes back to where it was, not where it was pinned).
+   */
   private inverseOf(p: EditedPlan, edit: PlanEdit): PlanEdit {
     const label = (j: number): number => p.plan.zoneIds[j]!;
-    if (edit.kind === 'pin-centre') {
+    if (edit.kind === 'pin-centre' || edit.kind === 'unpin-centre') {
       const j = p.plan.zoneIds.indexOf(edit.zone);
       if (j < 0) return edit; // refused when recorded
       const c = p.plan.centres;
       const [lon, lat] = lonLatFromVector(c[3 * j]!, c[3 * j + 1]!, c[3 * j + 2]!);
-      return { kind: 'pin-centre', zone: edit.zone, lon, lat };
+      if (p.pinned[j] === 1) return { kind: 'pin-centre', zone: edit.zone, lon, lat };
+      return edit.kind === 'pin-centre' ? { kind: 'unpin-centre', zone: edit.zone, lon, lat } : edit; // unpinning a free centre is refused when recorded
     }
     const i = edit.stop;
     if (!(i >= 0 && i < p.stops.ids.length)) return edit; // refused when recorded
@@ -303,6 +308,7 @@ export class AppSession implements Api {
     const inverse = this.inverseOf(c.plan, edit);
     let input: PlanEditInput;
     if (edit.kind === 'pin-centre') input = { kind: 'pin-centre', zone: edit.zone, lon: edit.lon, lat: edit.lat };
+    else if (edit.kind === 'unpin-centre') input = { kind: 'unpin-centre', zone: edit.zone, ...(edit.lon !== undefined && edit.lat !== undefined ? { lon: edit.lon, lat: edit.lat } : {}) };
     else if (edit.kind === 'move') input = { kind: 'move', stopIndex: edit.stop, zone: edit.zone };
     else input = { kind: edit.kind, stopIndex: edit.stop };
     await h.appendEdit(key, input);

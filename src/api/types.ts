@@ -222,12 +222,13 @@ export interface ProjectPlanRow {
   readonly edits: number;
 }
 
-export type PlanEditKind = 'move' | 'lock' | 'unlock' | 'pin-centre';
+export type PlanEditKind = 'move' | 'lock' | 'unlock' | 'pin-centre' | 'unpin-centre';
 
 /**
  * A manual edit to record. The stop by its id (as in the stops file) or its 0-based index;
  * zones by their label as shown (1..K). move: `zone` is where the stop goes; lock: the zone it
- * stays in (default its current zone); unlock: no zone; pin-centre: `zone` and the position.
+ * stays in (default its current zone); unlock: no zone; pin-centre: `zone` and the position;
+ * unpin-centre: `zone` (a pinned one), and optionally the position its centre goes back to.
  */
 export interface PlanEditInput {
   readonly kind: PlanEditKind;

@@ -60,6 +60,9 @@ const planEdit = z.discriminatedUnion('kind', [
   z.strictObject({ kind: z.literal('lock'), stop: stopIndex }),
   z.strictObject({ kind: z.literal('unlock'), stop: stopIndex }),
   z.strictObject({ kind: z.literal('pin-centre'), zone: zoneLabel, lon: z.number().min(-180).max(180), lat: z.number().min(-90).max(90) }),
+  z
+    .strictObject({ kind: z.literal('unpin-centre'), zone: zoneLabel, lon: z.number().min(-180).max(180).optional(), lat: z.number().min(-90).max(90).optional() })
+    .refine((e) => (e.lon === undefined) === (e.lat === undefined), 'give both lon and lat, or neither'),
 ]);
 
 const budget = z.union([z.strictObject({ stops: whole(0, 2 ** 31 - 1) }), z.strictObject({ demandShare: z.number().min(0).max(1) }), z.null()]);

@@ -21,7 +21,7 @@ import {
   type ZoneStats,
 } from './rows.js';
 import { editColumns, editFromRow, type EditRow } from './edits.js';
-import type { EditToAdd, PlanToSave, ProjectSummary, SavePlanOptions, StoredEdit, StoredPlan, StoredPlanInfo, StoredStopSet } from './types.js';
+import type { EditKind, EditToAdd, PlanToSave, ProjectSummary, SavePlanOptions, StoredEdit, StoredPlan, StoredPlanInfo, StoredStopSet } from './types.js';
 import { SCHEMA_VERSION } from './schema.js';
 
 const MAX_NAME = 200;
@@ -474,6 +474,15 @@ export class ProjectStore {
     return r.z.readInt32LE(0);
   }
 
+  /** Whether a zone's centre is pinned after the plan (its fixed depots) and the pins and unpins since. */
+  private isPinned(planId: number, fixedZones: number, zone: number): boolean {
+    // Centre edits are the rows without a stop (a CHECK of the edits table).
+    const last = this.sql('SELECT kind FROM edits WHERE plan_id = ? AND to_zone = ? AND stop_index IS NULL ORDER BY id DESC LIMIT 1').get(planId, zone) as
+      | { kind: EditKind }
+      | undefined;
+    return last ? last.kind === 'pin-centre' : zone < fixedZones;
+  }
+
   /** Appends a manual edit to a plan's log (one transaction). The plan itself is not changed. */
   appendEdit(rawPlan: string, edit: EditToAdd): StoredEdit {
     this.needWrite();
@@ -481,7 +490,17 @@ export class ProjectStore {
     return this.guard(() => {
       const id = this.db
         .transaction(() => {
-          const c = editColumns(edit, info, (i) => this.stopIds(info.stopSetId)[i]!, (i) => this.currentZone(info.id, i), this.file);
+          const c = editColumns(
+            edit,
+            info,
+            {
+              stopIdOf: (i) => this.stopIds(info.stopSetId)[i]!,
+              currentZone: (i) => this.currentZone(info.id, i),
+              isPinned: (z) => this.isPinned(info.id, info.fixedZones, z),
+              zoneLabel: (z) => zoneIdsOf(this.sql('SELECT zone_ids, zone_count FROM plans WHERE id = ?').get(info.id) as PlanRow)[z] ?? z + 1,
+            },
+            this.file,
+          );
           return Number(
             this.sql('INSERT INTO edits (plan_id, kind, stop_index, stop_id, from_zone, to_zone, lon, lat, at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)').run(
               info.id,

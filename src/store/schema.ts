@@ -19,7 +19,7 @@ import type Database from 'better-sqlite3';
 export const APPLICATION_ID = 0x5a504c4e;
 
 /** The schema version this Zoneplan writes (and the newest it reads). */
-export const SCHEMA_VERSION = 2;
+export const SCHEMA_VERSION = 3;
 
 export interface Migration {
   /** The version the file has after this step. */
@@ -118,9 +118,44 @@ CREATE TABLE edits (
 CREATE INDEX edits_plan ON edits (plan_id, id);
 `;
 
+/**
+ * v3: a zone centre can be freed again (edit kind `unpin-centre`: the zone's centre is no longer a
+ * fixed depot; with a position, it also goes back there). SQLite cannot change a table's CHECK
+ * constraints in place (https://www.sqlite.org/lang_altertable.html#otheralter), so the edits
+ * table is made anew with the wider checks, its rows copied with their ids, the old table dropped
+ * and the new one renamed; its index is made again. The migration's transaction holds all of it.
+ * No other table refers to edits, so dropping it leaves no reference dangling; its own reference
+ * to plans is checked by the foreign key check at the end of the migration.
+ */
+const V2_TO_V3 = `
+CREATE TABLE edits_v3 (
+  id         INTEGER PRIMARY KEY,
+  plan_id    INTEGER NOT NULL REFERENCES plans (id),
+  kind       TEXT NOT NULL CHECK (kind IN ('move', 'lock', 'unlock', 'pin-centre', 'unpin-centre')),
+  stop_index INTEGER CHECK (stop_index IS NULL OR stop_index >= 0),
+  stop_id    TEXT,
+  from_zone  INTEGER,
+  to_zone    INTEGER,
+  lon        REAL,
+  lat        REAL,
+  at         TEXT NOT NULL,
+  CHECK ((kind IN ('pin-centre', 'unpin-centre')) = (stop_index IS NULL)),
+  CHECK (kind <> 'move' OR (from_zone IS NOT NULL AND to_zone IS NOT NULL)),
+  CHECK (kind <> 'lock' OR to_zone IS NOT NULL),
+  CHECK (kind <> 'pin-centre' OR (to_zone IS NOT NULL AND lon IS NOT NULL AND lat IS NOT NULL)),
+  CHECK (kind <> 'unpin-centre' OR (to_zone IS NOT NULL AND (lon IS NULL) = (lat IS NULL)))
+);
+INSERT INTO edits_v3 (id, plan_id, kind, stop_index, stop_id, from_zone, to_zone, lon, lat, at)
+  SELECT id, plan_id, kind, stop_index, stop_id, from_zone, to_zone, lon, lat, at FROM edits ORDER BY id;
+DROP TABLE edits;
+ALTER TABLE edits_v3 RENAME TO edits;
+CREATE INDEX edits_plan ON edits (plan_id, id);
+`;
+
 export const MIGRATIONS: readonly Migration[] = [
   { to: 1, description: 'stop sets and plans', sql: V1 },
   { to: 2, description: 'parent plans, locks, limits, zone statistics, boundaries, manual edits', sql: V1_TO_V2 },
+  { to: 3, description: 'zone centres can be unpinned (edit kind unpin-centre)', sql: V2_TO_V3 },
 ];
 
 /**

@@ -67,15 +67,15 @@ export interface SavePlanOptions {
   readonly boundaries?: unknown;
 }
 
-export type EditKind = 'move' | 'lock' | 'unlock' | 'pin-centre';
+export type EditKind = 'move' | 'lock' | 'unlock' | 'pin-centre' | 'unpin-centre';
 
 /** A manual edit as given: zones are 0-based zone indices, the stop its index in the stop set. */
 export interface EditToAdd {
   readonly kind: EditKind;
   readonly stopIndex?: number;
-  /** move: the new zone; lock: the zone it stays in (default its current zone); pin-centre: the zone. */
+  /** move: the new zone; lock: the zone it stays in (default its current zone); pin-centre, unpin-centre: the zone. */
   readonly toZone?: number;
-  /** pin-centre: where the zone's centre is pinned, degrees. */
+  /** pin-centre: where the zone's centre is pinned, degrees; unpin-centre: where it goes when freed (both or neither; neither: it stays). */
   readonly lon?: number;
   readonly lat?: number;
 }

@@ -123,6 +123,14 @@ describe('AppSession: plan runs in a worker thread', () => {
     expect(view.zones[0]!.centre[1]).toBeCloseTo(51.45, 9);
     expect(view.zones[1]!.centre[0]).toBeCloseTo(12.15, 9);
     expect(view.zones[1]!.centre[1]).toBeCloseTo(51.22, 9);
+    // A depot of the run can be freed where it is, and undo makes it a depot again.
+    const freed = await session.edit('with depots', { kind: 'unpin-centre', zone: view.zones[0]!.zone });
+    expect(freed.zones.map((z) => z.fixed)).toEqual([false, true, false, false]);
+    expect(freed.zones[0]!.centre).toEqual(view.zones[0]!.centre);
+    const undone = await session.undo('with depots');
+    expect(undone.zones.map((z) => z.fixed)).toEqual([true, true, false, false]);
+    expect(undone.zones[0]!.centre[0]).toBeCloseTo(12.55, 9);
+    expect(undone.zones[0]!.centre[1]).toBeCloseTo(51.45, 9);
   });
 
   it('refuses a bad depots file before any run, naming the file as chosen, its row and field', async () => {
@@ -254,18 +262,61 @@ describe('AppSession: manual edits, undo and redo', () => {
     expect(locked(await session.planArrays('edit me'), 7)).toBe(0);
   });
 
-  it('pins a zone centre as a fixed depot, and undo puts it back', async () => {
+  it('pins a zone centre as a fixed depot; undo frees it where it was, redo pins it again', async () => {
     const v0 = await session.plan('edit me');
     const z = v0.zones[1]!;
+    expect(z.fixed).toBe(false);
+    const logged = (await listEdits(file, 'edit me')).length;
     const v1 = await session.edit('edit me', { kind: 'pin-centre', zone: z.zone, lon: 12.5, lat: 51.4 });
     const z1 = v1.zones[1]!;
     expect(z1.centre[0]).toBeCloseTo(12.5, 9);
     expect(z1.centre[1]).toBeCloseTo(51.4, 9);
     expect(z1.fixed).toBe(true);
     expect(z1.meanKm).not.toBeCloseTo(z.meanKm, 6);
+    expect(v1.objectiveKm2).not.toBeCloseTo(v0.objectiveKm2, 3);
+
     const v2 = await session.undo('edit me');
-    expect(v2.zones[1]!.centre[0]).toBeCloseTo(z.centre[0], 9);
-    expect(v2.zones[1]!.centre[1]).toBeCloseTo(z.centre[1], 9);
+    const z2 = v2.zones[1]!;
+    expect(z2.fixed).toBe(false);
+    expect(z2.centre[0]).toBeCloseTo(z.centre[0], 9);
+    expect(z2.centre[1]).toBeCloseTo(z.centre[1], 9);
+    // The figures are those of the centre where it was again.
+    expect(z2.meanKm).toBeCloseTo(z.meanKm, 9);
+    expect(z2.maxKm).toBeCloseTo(z.maxKm, 9);
+    expect(z2.objectiveKm2).toBeCloseTo(z.objectiveKm2, 6);
+    expect(v2.objectiveKm2).toBeCloseTo(v0.objectiveKm2, 6);
+    expect(v2.canRedo).toBe(true);
+    // The other zones were never touched.
+    expect(v2.zones.filter((_, j) => j !== 1).map((r) => [r.fixed, r.centre])).toEqual(v0.zones.filter((_, j) => j !== 1).map((r) => [r.fixed, r.centre]));
+    // Both are in the project: the pin, and the unpin that takes it back (to the old position).
+    const log = (await listEdits(file, 'edit me')).slice(logged);
+    expect(log.map((e) => [e.kind, e.stopIndex, e.toZone])).toEqual([
+      ['pin-centre', null, z.zone],
+      ['unpin-centre', null, z.zone],
+    ]);
+    expect(log[0]!.centre).toEqual([12.5, 51.4]);
+    expect(log[1]!.centre![0]).toBeCloseTo(z.centre[0], 9);
+    expect(log[1]!.centre![1]).toBeCloseTo(z.centre[1], 9);
+
+    const v3 = await session.redo('edit me');
+    expect(v3.zones[1]!.fixed).toBe(true);
+    expect(v3.zones[1]!.centre[0]).toBeCloseTo(12.5, 9);
+    expect(v3.zones[1]!.centre[1]).toBeCloseTo(51.4, 9);
+    expect(v3.zones[1]!.meanKm).toBeCloseTo(z1.meanKm, 9);
+    expect((await listEdits(file, 'edit me')).slice(logged).map((e) => e.kind)).toEqual(['pin-centre', 'unpin-centre', 'pin-centre']);
+    // Reopened, the project gives the same: pinned at 12.5, 51.4.
+    await session.openProject(file);
+    const again = (await session.plan('edit me')).zones[1]!;
+    expect(again.fixed).toBe(true);
+    expect(again.centre[0]).toBeCloseTo(12.5, 9);
+
+    // Back to the state before this test (the undo history was the window's, so by hand).
+    const v4 = await session.edit('edit me', { kind: 'unpin-centre', zone: z.zone, lon: z.centre[0], lat: z.centre[1] });
+    expect(v4.zones[1]!.fixed).toBe(false);
+    expect(v4.zones[1]!.meanKm).toBeCloseTo(z.meanKm, 9);
+    // ...and the pin once more, then undone, for the redo of the next test.
+    await session.edit('edit me', { kind: 'pin-centre', zone: z.zone, lon: 12.5, lat: 51.4 });
+    expect((await session.undo('edit me')).zones[1]!.fixed).toBe(false);
   });
 
   it('refuses an edit that does not fit the plan, recording nothing', async () => {
@@ -276,6 +327,49 @@ describe('AppSession: manual edits, undo and redo', () => {
     // The pin undone above can still be redone; after that there is nothing more to redo.
     expect((await session.redo('edit me')).zones[1]!.centre[0]).toBeCloseTo(12.5, 9);
     await expect(session.redo('edit me')).rejects.toThrow(/nothing to redo/);
+  });
+
+  it('unpins a pinned centre where it is; undo pins it there again, redo frees it again', async () => {
+    const v0 = await session.plan('edit me');
+    const z = v0.zones[1]!;
+    expect(z.fixed).toBe(true);
+    const logged = (await listEdits(file, 'edit me')).length;
+    const v1 = await session.edit('edit me', { kind: 'unpin-centre', zone: z.zone });
+    expect(v1.zones[1]!.fixed).toBe(false);
+    expect(v1.zones[1]!.centre).toEqual(z.centre);
+    expect(v1.zones[1]!.meanKm).toBeCloseTo(z.meanKm, 9);
+    // A free centre cannot be unpinned: refused, nothing recorded, the history unchanged.
+    await expect(session.edit('edit me', { kind: 'unpin-centre', zone: z.zone })).rejects.toThrow(/is not pinned/);
+    expect((await listEdits(file, 'edit me')).length).toBe(logged + 1);
+
+    const v2 = await session.undo('edit me');
+    expect(v2.zones[1]!.fixed).toBe(true);
+    expect(v2.zones[1]!.centre[0]).toBeCloseTo(z.centre[0], 9);
+    expect(v2.zones[1]!.centre[1]).toBeCloseTo(z.centre[1], 9);
+    const v3 = await session.redo('edit me');
+    expect(v3.zones[1]!.fixed).toBe(false);
+    expect(v3.zones[1]!.centre[0]).toBeCloseTo(z.centre[0], 9);
+    const log = (await listEdits(file, 'edit me')).slice(logged);
+    expect(log.map((e) => [e.kind, e.toZone, e.centre === null])).toEqual([
+      ['unpin-centre', z.zone, true],
+      ['pin-centre', z.zone, false],
+      ['unpin-centre', z.zone, true],
+    ]);
+  });
+
+  it('moves a pinned centre to a new place; undo puts it back, still pinned', async () => {
+    const z = (await session.edit('edit me', { kind: 'pin-centre', zone: 3, lon: 12.3, lat: 51.3 })).zones.find((r) => r.zone === 3)!;
+    expect(z.fixed).toBe(true);
+    const v1 = await session.edit('edit me', { kind: 'pin-centre', zone: 3, lon: 12.7, lat: 51.2 });
+    expect(v1.zones.find((r) => r.zone === 3)!.centre[0]).toBeCloseTo(12.7, 9);
+    const v2 = await session.undo('edit me');
+    const back = v2.zones.find((r) => r.zone === 3)!;
+    expect(back.fixed).toBe(true);
+    expect(back.centre[0]).toBeCloseTo(12.3, 9);
+    expect(back.centre[1]).toBeCloseTo(51.3, 9);
+    const v3 = await session.undo('edit me');
+    expect(v3.zones.find((r) => r.zone === 3)!.fixed).toBe(false);
+    expect((await listEdits(file, 'edit me')).slice(-2).map((e) => e.kind)).toEqual(['pin-centre', 'unpin-centre']);
   });
 });
 

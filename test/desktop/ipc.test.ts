@@ -145,6 +145,13 @@ describe('ipc: every method handled, every argument validated', () => {
       expect(reply, m).toEqual({ ok: true, value: { method: m } });
       expect(calls).toEqual([[m, GOOD[m]]]);
     }
+    // A centre is freed where it is, or freed and put back at a position.
+    for (const edit of [{ kind: 'unpin-centre', zone: 2 }, { kind: 'unpin-centre', zone: 2, lon: 12.5, lat: 51.4 }]) {
+      calls.length = 0;
+      const reply = (await handlers.get(channelOf('edit'))!({ senderFrame: APP_FRAME }, 'week 1', edit)) as WireReply;
+      expect(reply, JSON.stringify(edit)).toEqual({ ok: true, value: { method: 'edit' } });
+      expect(calls).toEqual([['edit', ['week 1', edit]]]);
+    }
   });
 
   it('refuses bad arguments before they reach the session', async () => {
@@ -160,6 +167,8 @@ describe('ipc: every method handled, every argument validated', () => {
     const specific: [ApiMethod, unknown[]][] = [
       ['edit', ['p', { kind: 'move', stop: 1.5, zone: 2 }]],
       ['edit', ['p', { kind: 'pin-centre', zone: 1, lon: 181, lat: 0 }]],
+      ['edit', ['p', { kind: 'unpin-centre', zone: 1, lon: 12 }]],
+      ['edit', ['p', { kind: 'unpin-centre', zone: 1, stop: 3 }]],
       ['edit', ['p', { kind: 'lock', stop: 1, zone: 3 }]],
       ['startRun', [1, { zones: 3, depotsFile: '' }, 'p']],
       ['startRun', [1, { zones: 'many' }, 'p']],

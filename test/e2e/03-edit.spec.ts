@@ -82,11 +82,12 @@ test('dragging a centre pins it where it is dropped', async ({ openApp, app, err
   expect(z.centre[0]).toBeGreaterThan(target.centre[0]);
   expect(z.centre[1]).toBeLessThan(target.centre[1]);
   await shot(page, '03-centre-pinned');
-  // Undo puts the centre back where it was. (The Api's undo of a pin re-pins the zone at its old
-  // position: PlanEdit has no 'unpin', so the zone stays marked as fixed.)
+  // Undo puts the centre back where it was, free again.
   await page.click('#undo');
   await expect(page.locator('#redo')).toBeEnabled();
+  await expect(page.locator(`#zone-table tbody tr[data-zone="${target.zone}"] td`).first()).not.toContainText('⚓');
   const undone = (await app.call<PlanView>('plan', PLAN)).zones.find((r) => r.zone === target.zone)!;
+  expect(undone.fixed).toBe(false);
   expect(undone.centre[0]).toBeCloseTo(target.centre[0], 5);
   expect(undone.centre[1]).toBeCloseTo(target.centre[1], 5);
   expect(errors).toEqual([]);

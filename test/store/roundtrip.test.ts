@@ -261,6 +261,9 @@ describe('manual edits', () => {
     await appendEdit(file, 'p', { kind: 'lock', stopId: stops.ids[3]! });
     await appendEdit(file, 'p', { kind: 'unlock', stopIndex: 3 });
     await appendEdit(file, 'p', { kind: 'pin-centre', zone: 2, lon: 10.5, lat: 48.25 });
+    await appendEdit(file, 'p', { kind: 'unpin-centre', zone: 2 });
+    await appendEdit(file, 'p', { kind: 'pin-centre', zone: 3, lon: 10.25, lat: 48 });
+    await appendEdit(file, 'p', { kind: 'unpin-centre', zone: 3, lon: 10.75, lat: 48.5 });
     const after = new Date().toISOString();
     const edits = await listEdits(file, 'p');
     expect(edits.map((e) => [e.kind, e.stopIndex, e.stopId, e.fromZone, e.toZone, e.centre])).toEqual([
@@ -269,13 +272,16 @@ describe('manual edits', () => {
       ['lock', 3, stops.ids[3], z(3), z(3), null],
       ['unlock', 3, stops.ids[3], z(3), null, null],
       ['pin-centre', null, null, null, 2, [10.5, 48.25]],
+      ['unpin-centre', null, null, null, 2, null],
+      ['pin-centre', null, null, null, 3, [10.25, 48]],
+      ['unpin-centre', null, null, null, 3, [10.75, 48.5]],
     ]);
     for (const e of edits) {
       expect(e.at >= before && e.at <= after).toBe(true);
       expect(e.plan).toBe('p');
     }
     expect(edits.map((e) => e.id)).toEqual([...edits.map((e) => e.id)].sort((a, b) => a - b));
-    expect((await listPlans(file))[0]!.edits).toBe(5);
+    expect((await listPlans(file))[0]!.edits).toBe(8);
     // The saved plan itself is not changed by edits.
     expect((await loadPlan(file, 'p')).plan.assignment).toEqual(plan.assignment);
   });
@@ -292,6 +298,8 @@ describe('manual edits', () => {
       [{ kind: 'move', stopIndex: 1, zone: 4 }, /has no zone 4; its zones are 1\.\.3/],
       [{ kind: 'lock' }, /needs the stop/],
       [{ kind: 'pin-centre', zone: 1, lon: 10, lat: 95 }, /latitude -90\.\.90/],
+      [{ kind: 'unpin-centre' }, /needs the zone/],
+      [{ kind: 'unpin-centre', zone: 1 }, /the centre of zone 1 of plan "p" is not pinned/],
       [{ kind: 'teleport' } as never, /unknown|needs a kind/],
     ];
     for (const [edit, message] of cases) {
