@@ -58,7 +58,7 @@ export class ZoneFlow {
   private readonly reverseStart: Int32Array;
   private readonly reverse: Int32Array;
   private piecePos = new Int32Array(0);
-  private pMin = 0;
+  private readonly byPrice: Int32Array;
   private pMinStale = true;
 
   constructor(
@@ -84,6 +84,7 @@ export class ZoneFlow {
     }
     this.load = new Float64Array(k);
     this.out = new Float64Array(k);
+    this.byPrice = new Int32Array(k);
     this.first = new Int32Array(supply.length).fill(-1);
     this.outgoing = Array.from({ length: k }, () => new Set<number>());
     let total = 0;
@@ -194,18 +195,24 @@ export class ZoneFlow {
       }
     }
     if (this.pMinStale) {
-      this.pMin = Infinity;
-      for (let j = 0; j < this.k; j++) if (this.price[j]! < this.pMin) this.pMin = this.price[j]!;
+      // Zones by price, cheapest first, for the check beyond the candidates.
+      const order = this.byPrice;
+      for (let j = 0; j < this.k; j++) order[j] = j;
+      order.sort((a, b) => this.price[a]! - this.price[b]!);
       this.pMinStale = false;
     }
+    // A zone beyond the candidates is at least as far as the farthest candidate, so it can only
+    // be cheaper when its price is below bv - f x farthest (+ the stay bonus, which only its own
+    // zone gets): the zones are scanned in order of price up to that threshold.
     const bonus = this.stay ? this.stayBonus![i]! : 0;
-    if (!(bv <= f * this.cand.farthest[i]! - bonus + this.pMin)) {
-      for (let j = 0; j < this.k; j++) {
-        const v = this.value(i, j);
-        if (v < bv) {
-          bv = v;
-          bz = j;
-        }
+    const order = this.byPrice;
+    for (let t = 0; t < this.k; t++) {
+      const j = order[t]!;
+      if (!(this.price[j]! < bv - f * this.cand.farthest[i]! + bonus)) break;
+      const v = this.value(i, j);
+      if (v < bv) {
+        bv = v;
+        bz = j;
       }
     }
     return bz;

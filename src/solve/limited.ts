@@ -5,6 +5,7 @@ import { checkSolve, defaultSampleStops, solveSteps, DEFAULT_MAX_ITERATIONS } fr
 import { hasLimits, zoneBounds, type LimitNote, type LimitSettings } from './limits.js';
 import { seedCentres, seedScratch } from './seed.js';
 import { nearestCandidates } from './candidates.js';
+import { aggregateStops } from './aggregate.js';
 import { SolveError, type IterationRecord, type SolveInput, type SolveProgress, type SolveResult, type SolveSettings } from './types.js';
 
 export interface LimitedSettings extends SolveSettings {
@@ -45,10 +46,15 @@ export interface LimitedResult extends SolveResult {
 
 /** Relative fall of the LP objective below which the limited loop counts as settled. Common practice, no source. */
 const SETTLED = 1e-5;
-/** The same on the coarse samples, and their iteration cap: they only need to get close. */
-const SETTLED_COARSE = 1e-4;
-const COARSE_ITERATIONS = 30;
-const SAMPLE_STREAM = 0x4c494d53;
+/**
+ * The coarse levels (merged stops, cheap) settle to the same tolerance, within an iteration cap.
+ * On every stop after them, where each iteration costs the most, the loop counts as settled at a
+ * fall of 1e-4 (a hundredth of a percent per iteration): the coarse levels have already done the
+ * long tail of small falls. Common practice, no source.
+ */
+const SETTLED_COARSE = 1e-5;
+const COARSE_ITERATIONS = 200;
+const SETTLED_AFTER_COARSE = 1e-4;
 
 /**
  * Zones with workload limits, fixed centres and locked stops: the plan loop alternates the
@@ -59,8 +65,9 @@ const SAMPLE_STREAM = 0x4c494d53;
  *
  * The start: plain spherical k-means (solveSteps) when no centre is fixed and no stop locked;
  * otherwise k-means++ continued from the fixed centres and Lloyd iterations that keep them and the
- * locks. With many stops, the limited loop first runs on a sample (demand scaled to the same
- * total) and then continues on every stop from its centres and prices.
+ * locks. With many stops, plain k-means and then the limited loop first run on coarse copies of
+ * the stops (merged into grid cells, src/solve/aggregate.ts: every region's demand exact), and the
+ * loop then continues on every stop from their centres and prices.
  */
 export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings, start?: SolveResult): Generator<SolveProgress, LimitedResult, void> {
   checkSolve(input, settings);
@@ -103,7 +110,10 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
     centres = start.centres.slice();
     history.push(...start.history);
   } else if (fixedCount === 0 && !locked) {
-    const plain = solveSteps(input, settings);
+    // With limits and many stops, plain k-means starts on the first coarse level (the limited
+    // loop refines on every stop later): its centres are as good a start and far cheaper.
+    const coarse = limited ? coarseLevels(n, k, settings.sampleStops ?? defaultSampleStops(k)) : [];
+    const plain = solveSteps(coarse.length > 0 ? aggregateStops(units, demand, null, coarse[0]!) : input, settings);
     for (;;) {
       const s = plain.next();
       if (s.done) {
@@ -137,11 +147,9 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
     // few iterations. The smallest has 100 stops per zone (at least 20 000).
     const sampleStops = settings.sampleStops ?? defaultSampleStops(k);
     if (sampleStops > 0) {
-      const levels: number[] = [];
-      for (let size = Math.max(20_000, 100 * k); size * 4 <= n; size *= 5) levels.push(size);
-      const rng = new Random(seed, SAMPLE_STREAM);
+      const levels = coarseLevels(n, k, sampleStops);
       for (let level = 0; level < levels.length; level++) {
-        const sample = sampleWithLocks(input, locked, levels[level]!, rng);
+        const sample = aggregateStops(units, demand, locked, levels[level]!);
         const loose = level === 0 ? looseBounds(sample.units, sample.demand, centres, bounds, sample.locked) : null;
         const run = lpLloyd(sample.units, sample.demand, centres, bounds, sample.locked, fixed, rule, Math.min(maxIterations, COARSE_ITERATIONS + (loose ? 10 : 0)), prices, 'limits', SETTLED_COARSE, loose);
         for (;;) {
@@ -157,7 +165,7 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
       }
     }
     const loose = prices ? null : looseBounds(units, demand, centres, bounds, locked);
-    const run = lpLloyd(units, demand, centres, bounds, locked, fixed, rule, maxIterations, prices, 'limits', SETTLED, loose);
+    const run = lpLloyd(units, demand, centres, bounds, locked, fixed, rule, maxIterations, prices, 'limits', prices ? SETTLED_AFTER_COARSE : SETTLED, loose);
     let steps = 0;
     for (;;) {
       const s = run.next();
@@ -205,6 +213,17 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
         }
       : null,
   };
+}
+
+/**
+ * Sizes (cells) of the coarse copies the limited loop runs on before every stop: from
+ * max(20 000, 100 k) up by a factor of 5 while a level stays under a quarter of the stops; none
+ * when `sampleStops` is 0 (no coarse start asked for).
+ */
+function coarseLevels(n: number, k: number, sampleStops: number): number[] {
+  const levels: number[] = [];
+  if (sampleStops > 0) for (let size = Math.max(20_000, 100 * k); size * 4 <= n; size *= 5) levels.push(size);
+  return levels;
 }
 
 /** Factor by which the continuation closes the gap to the target bounds per iteration. Common practice, no source. */
@@ -334,36 +353,4 @@ function* lpLloyd(
     if (calm >= 2) return { prices, converged: true };
   }
   return { prices, converged: false };
-}
-
-/** A sample of the free stops (demand scaled up to the same total) plus every locked stop. */
-function sampleWithLocks(input: SolveInput, locked: Int32Array | null, size: number, rng: Random): { units: Float64Array; demand: Float64Array; locked: Int32Array | null } {
-  const n = input.demand.length;
-  const free: number[] = [];
-  const fixedStops: number[] = [];
-  for (let i = 0; i < n; i++) (locked && locked[i]! >= 0 ? fixedStops : free).push(i);
-  const m = Math.min(size, free.length);
-  const pool = Int32Array.from(free);
-  for (let s = 0; s < m; s++) {
-    const j = s + rng.nextInt(pool.length - s);
-    const t = pool[s]!;
-    pool[s] = pool[j]!;
-    pool[j] = t;
-  }
-  const chosen = [...pool.subarray(0, m)].sort((a, b) => a - b);
-  let freeTotal = 0;
-  for (const i of free) freeTotal += input.demand[i]!;
-  let sampleTotal = 0;
-  for (const i of chosen) sampleTotal += input.demand[i]!;
-  const scale = sampleTotal > 0 ? freeTotal / sampleTotal : 1;
-  const all = [...chosen, ...fixedStops];
-  const units = new Float64Array(3 * all.length);
-  const demand = new Float64Array(all.length);
-  const lock = locked ? new Int32Array(all.length).fill(-1) : null;
-  all.forEach((i, s) => {
-    units.set(input.units.subarray(3 * i, 3 * i + 3), 3 * s);
-    demand[s] = s < chosen.length ? input.demand[i]! * scale : input.demand[i]!;
-    if (lock && s >= chosen.length) lock[s] = locked![i]!;
-  });
-  return { units, demand, locked: lock };
 }

@@ -14,6 +14,53 @@ interface Move {
   to: number;
 }
 
+/** Moves tried first for a zone's breach, and second moves tried per chain. */
+const FIRST_SCAN = 160;
+const CHAIN_SCAN = 16;
+/** Cached move lists keep their cheapest entries only: no scan reads further. */
+const LIST_KEEP = FIRST_SCAN;
+
+/**
+ * The `keep` entries of least cost, cheapest first (ties in their order in `list`): a selection
+ * (C. A. R. Hoare's FIND, expected linear time) and a sort of what is kept, instead of sorting
+ * every entry.
+ */
+export function cheapestFirst<T extends { cost: number }>(list: T[], keep: number): T[] {
+  const byCost = (x: T, y: T): number => x.cost - y.cost;
+  if (list.length <= keep) return list.map((e) => e).sort(byCost);
+  const costs = Float64Array.from(list, (e) => e.cost);
+  // The keep-th smallest cost (0-based keep - 1) by quickselect on a copy.
+  let lo = 0;
+  let hi = costs.length - 1;
+  const want = keep - 1;
+  while (lo < hi) {
+    const pivot = costs[(lo + hi) >>> 1]!;
+    let a = lo;
+    let b = hi;
+    while (a <= b) {
+      while (costs[a]! < pivot) a++;
+      while (costs[b]! > pivot) b--;
+      if (a <= b) {
+        const t = costs[a]!;
+        costs[a] = costs[b]!;
+        costs[b] = t;
+        a++;
+        b--;
+      }
+    }
+    if (want <= b) hi = b;
+    else if (want >= a) lo = a;
+    else break;
+  }
+  const limit = costs[want]!;
+  const below = list.filter((e) => e.cost < limit);
+  for (const e of list) {
+    if (below.length >= keep) break;
+    if (e.cost === limit) below.push(e);
+  }
+  return below.sort(byCost);
+}
+
 /**
  * Whole-stop assignment under zone bounds: repair of the bounds that rounding broke, and local
  * improvement. Repair moves single stops or chains of two (a stop into a zone that is full, and
@@ -131,13 +178,15 @@ export class WholeStops {
   }
 
   /** Candidate single moves of stop i (to its candidate zones). */
-  private *targets(i: number): Generator<number> {
+  private targets(i: number): number[] {
     const C = this.cand.c;
     const from = this.assignment[i]!;
+    const out: number[] = [];
     for (let s = 0; s < C; s++) {
       const to = this.cand.zone[i * C + s]!;
-      if (to !== from) yield to;
+      if (to !== from && !out.includes(to)) out.push(to);
     }
+    return out;
   }
 
   /**
@@ -166,14 +215,37 @@ export class WholeStops {
         hopeless.add(worst);
         continue;
       }
-      for (const m of best as Move[]) this.apply(m.stop, m.to);
+      const touched = new Set<number>();
+      for (const m of best as Move[]) {
+        touched.add(m.from);
+        touched.add(m.to);
+        this.apply(m.stop, m.to);
+      }
       made += (best as Move[]).length;
       hopeless.clear();
-      this.outCache.clear();
-      this.inCache.clear();
-      this.neighbourCache.clear();
+      this.forget(touched);
     }
     return made;
+  }
+
+  /**
+   * Drops the cached move lists that the moves just made can have changed: those of the zones
+   * that gained or lost a stop, and those of zones next to one (their moves' feasibility depends
+   * on the loads there).
+   */
+  private forget(touched: Set<number>): void {
+    for (const t of touched) {
+      this.outCache.delete(t);
+      this.inCache.delete(t);
+    }
+    for (const l of [...this.outCache.keys(), ...this.inCache.keys()]) {
+      const near = this.neighbourCache.get(l);
+      if (!near || near.some((r) => touched.has(r))) {
+        this.outCache.delete(l);
+        this.inCache.delete(l);
+      }
+    }
+    for (const t of touched) this.neighbourCache.delete(t);
   }
 
   /** Each stop of zone l with its cheapest move out (to another candidate zone), cheapest first. */
@@ -194,7 +266,7 @@ export class WholeStops {
         }
         if (bestTo >= 0) list.push({ stop: m, to: bestTo, cost: bestCost });
       }
-      list.sort((x, y) => x.cost - y.cost);
+      list = cheapestFirst(list, LIST_KEEP);
       this.outCache.set(l, list);
     }
     return list;
@@ -214,7 +286,7 @@ export class WholeStops {
           list.push({ stop: m, from: r, cost: this.cost(m, l) });
         }
       }
-      list.sort((x, y) => x.cost - y.cost);
+      list = cheapestFirst(list, LIST_KEEP);
       this.inCache.set(l, list);
     }
     return list;
@@ -236,19 +308,14 @@ export class WholeStops {
         best = moves.map((m) => ({ ...m }));
       }
     };
-    const CHAIN_SCAN = 16;
-    const FIRST_SCAN = 160;
     if (over) {
       // The cheapest moves out of j, each to a zone with room or passed on by a chain.
-      const firsts: Move[] = [];
-      const costs: number[] = [];
-      for (const i of this.members[j]!) for (const l of this.targets(i)) {
-        firsts.push({ stop: i, from: j, to: l });
-        costs.push(this.cost(i, l));
-      }
-      const order = firsts.map((_, t) => t).sort((x, y) => costs[x]! - costs[y]!);
-      for (let u = 0; u < order.length && u < FIRST_SCAN; u++) {
-        const first = firsts[order[u]!]!;
+      const firsts: { stop: number; from: number; to: number; cost: number }[] = [];
+      for (const i of this.members[j]!) for (const l of this.targets(i)) firsts.push({ stop: i, from: j, to: l, cost: this.cost(i, l) });
+      const order = cheapestFirst(firsts, FIRST_SCAN);
+      for (let u = 0; u < order.length; u++) {
+        const { stop, from, to } = order[u]!;
+        const first: Move = { stop, from, to };
         const w = this.demand[first.stop]!;
         const l = first.to;
         // The single move counts when it lowers the total breach, even if l then breaks a little.
@@ -270,20 +337,19 @@ export class WholeStops {
         consider([{ stop: entry.stop, from: entry.from, to: j }]);
       }
       // Chains: a neighbour gives a stop and takes one from its own neighbour.
-      const firsts: Move[] = [];
-      const costs: number[] = [];
+      const firsts: { stop: number; from: number; to: number; cost: number }[] = [];
       for (const l of this.neighboursOf(j)) {
         for (const i of this.members[l]!) {
           if (!this.hasCandidate(i, j)) continue;
           const w = this.demand[i]!;
           if (this.breach(l, -w, -1) <= this.breach(l, 0, 0)) continue;
-          firsts.push({ stop: i, from: l, to: j });
-          costs.push(this.cost(i, j));
+          firsts.push({ stop: i, from: l, to: j, cost: this.cost(i, j) });
         }
       }
-      const order = firsts.map((_, t) => t).sort((x, y) => costs[x]! - costs[y]!);
-      for (let u = 0; u < order.length && u < FIRST_SCAN; u++) {
-        const first = firsts[order[u]!]!;
+      const order = cheapestFirst(firsts, FIRST_SCAN);
+      for (let u = 0; u < order.length; u++) {
+        const { stop, from, to } = order[u]!;
+        const first: Move = { stop, from, to };
         const incoming = this.movesIn(first.from);
         for (let t = 0, seen = 0; t < incoming.length && seen < CHAIN_SCAN; t++) {
           const o = incoming[t]!;
