@@ -59,7 +59,7 @@ export class ZoneFlow {
   private readonly reverse: Int32Array;
   private piecePos = new Int32Array(0);
   private readonly byPrice: Int32Array;
-  private pMinStale = true;
+  private byPriceStale = true;
 
   constructor(
     private readonly units: Float64Array,
@@ -194,12 +194,12 @@ export class ZoneFlow {
         bz = j;
       }
     }
-    if (this.pMinStale) {
+    if (this.byPriceStale) {
       // Zones by price, cheapest first, for the check beyond the candidates.
       const order = this.byPrice;
       for (let j = 0; j < this.k; j++) order[j] = j;
       order.sort((a, b) => this.price[a]! - this.price[b]!);
-      this.pMinStale = false;
+      this.byPriceStale = false;
     }
     // A zone beyond the candidates is at least as far as the farthest candidate, so it can only
     // be cheaper when its price is below bv - f x farthest (+ the stay bonus, which only its own
@@ -467,7 +467,7 @@ export class ZoneFlow {
     let change = 0;
     for (let u = 0; u <= cut; u++) change = Math.max(change, delta[idx[u]!]!);
     this.price[j] = this.price[j]! + (shed ? change : -change);
-    this.pMinStale = true;
+    this.byPriceStale = true;
     let taken = 0;
     for (let u = 0; u <= cut; u++) {
       const at = idx[u]!;
@@ -596,7 +596,7 @@ export class ZoneFlow {
       // cost turns negative.
       for (const v of settled) if (dist[v]! < D) potential[v]! += D - dist[v]!;
       for (let j = 0; j < k; j++) this.price[j] = potential[j]! - potential[T]!;
-      this.pMinStale = true;
+      this.byPriceStale = true;
       const nodes: number[] = [target];
       const pieces: number[] = [];
       for (let v = target; prev[v]! >= 0; v = prev[v]!) {

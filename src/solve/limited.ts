@@ -5,7 +5,7 @@ import { checkSolve, defaultSampleStops, solveSteps, DEFAULT_MAX_ITERATIONS } fr
 import { hasLimits, zoneBounds, type LimitNote, type LimitSettings } from './limits.js';
 import { seedCentres, seedScratch } from './seed.js';
 import { nearestCandidates } from './candidates.js';
-import { aggregateStops } from './aggregate.js';
+import { aggregateStops, type Aggregated } from './aggregate.js';
 import { SolveError, type IterationRecord, type SolveInput, type SolveProgress, type SolveResult, type SolveSettings } from './types.js';
 
 export interface LimitedSettings extends SolveSettings {
@@ -105,6 +105,16 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
   // 1. The start.
   let centres: Float64Array;
   let startResult: SolveResult | null = null;
+  // Coarse copies of the stops (merged cells) for limited plans with many stops; the first is
+  // made once for both the plain start and the limited loop's first level.
+  const levels = limited ? coarseLevels(n, k, settings.sampleStops ?? defaultSampleStops(k)) : [];
+  let firstCopy: Aggregated | null = null;
+  const coarseCopy = (level: number): Aggregated => {
+    if (level > 0) return aggregateStops(units, demand, locked, levels[level]!);
+    firstCopy ??= aggregateStops(units, demand, locked, levels[0]!);
+    return firstCopy;
+  };
+
   if (start && fixedCount === 0 && !locked) {
     startResult = start;
     centres = start.centres.slice();
@@ -112,8 +122,7 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
   } else if (fixedCount === 0 && !locked) {
     // With limits and many stops, plain k-means starts on the first coarse level (the limited
     // loop refines on every stop later): its centres are as good a start and far cheaper.
-    const coarse = limited ? coarseLevels(n, k, settings.sampleStops ?? defaultSampleStops(k)) : [];
-    const plain = solveSteps(coarse.length > 0 ? aggregateStops(units, demand, null, coarse[0]!) : input, settings);
+    const plain = solveSteps(levels.length > 0 ? coarseCopy(0) : input, settings);
     for (;;) {
       const s = plain.next();
       if (s.done) {
@@ -142,14 +151,12 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
   let iterations = startResult?.iterations ?? history.length;
   let converged = startResult?.converged ?? true;
   if (limited) {
-    // Coarse to fine: samples of growing size (x5 each) up to a quarter of the stops, each
+    // Coarse to fine: merged copies of growing size (x5 each) up to a quarter of the stops, each
     // level starting from the last one's centres and prices, so that the full set needs only a
-    // few iterations. The smallest has 100 stops per zone (at least 20 000).
-    const sampleStops = settings.sampleStops ?? defaultSampleStops(k);
-    if (sampleStops > 0) {
-      const levels = coarseLevels(n, k, sampleStops);
+    // few iterations. The smallest has 100 cells per zone (at least 20 000).
+    if (levels.length > 0) {
       for (let level = 0; level < levels.length; level++) {
-        const sample = aggregateStops(units, demand, locked, levels[level]!);
+        const sample = coarseCopy(level);
         const loose = level === 0 ? looseBounds(sample.units, sample.demand, centres, bounds, sample.locked) : null;
         const run = lpLloyd(sample.units, sample.demand, centres, bounds, sample.locked, fixed, rule, Math.min(maxIterations, COARSE_ITERATIONS + (loose ? 10 : 0)), prices, 'limits', SETTLED_COARSE, loose);
         for (;;) {
