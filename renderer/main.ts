@@ -12,6 +12,7 @@ import 'leaflet/dist/leaflet.css';
 import './style.css';
 import type { Api, PlanArrays, PlanView, ProjectInfo, RunSettings, RunStatus, StopDetails } from '../src/api/app-types.js';
 import type { InputProblem, PlanComparison, ZoneRow } from '../src/api/types.js';
+import type { AppEvents } from '../src/desktop/channels.js';
 import { createHttpApi, errorMessage } from './api-client.js';
 import { CentreEditor } from './centre-edit.js';
 import { MapView } from './map-view.js';
@@ -662,10 +663,15 @@ async function importFile(file: File): Promise<void> {
   const s = out.stopSet;
   report.appendChild(h('p', { class: 'zp-ok', 'data-import': 'ok', 'data-stop-set': s.id, text: `Imported ${fmt(s.stops)} stops (demand ${fmt(s.totalDemand)}) from ${s.source.split(/[\\/]/).pop()} as stop set #${s.id}.` }));
   if (s.warnings.length) report.appendChild(problemsTable(s.warnings));
+  await showStopSet(s.id);
+}
+
+/** After an import: the project's stop sets again, the new one chosen for the next run. */
+async function showStopSet(id: number): Promise<void> {
   await refreshProject();
-  ($('run-stopset') as HTMLSelectElement).value = String(s.id);
-  ($('rebalance-set') as HTMLSelectElement).value = String(s.id);
-  status(`Imported stop set #${s.id}`);
+  ($('run-stopset') as HTMLSelectElement).value = String(id);
+  ($('rebalance-set') as HTMLSelectElement).value = String(id);
+  status(`Imported stop set #${id}`);
 }
 
 $('import-file').addEventListener('change', () => {
@@ -865,17 +871,55 @@ try {
 // ---------------------------------------------------------------------------------------------
 // Start
 
-async function start(): Promise<void> {
-  renderZoneTable();
-  showRun(null);
+/** The open project: its stop sets and plans, and its newest plan (none: an empty map). */
+async function showProject(): Promise<void> {
   await refreshProject();
   const plans = state.project?.plans ?? [];
   ($('run-name') as HTMLInputElement).value = defaultPlanName();
   const latest = [...plans].sort((a, b) => a.createdAt.localeCompare(b.createdAt)).pop();
   if (latest) await openPlan(latest.name);
-  else status(state.project ? 'No plan yet: import stops and run one' : 'Not connected', !state.project);
+  else {
+    if (state.view) clearPlan();
+    status(state.project ? 'No plan yet: import stops and run one' : 'Not connected', !state.project);
+  }
+}
+
+/** No plan shown (another project without plans was opened). */
+function clearPlan(): void {
+  centreEditor.end();
+  Object.assign(state, { plan: null, view: null, arrays: null, demand: null, ids: null, selected: null, comparison: null });
+  spread = new Map();
+  mapView.stops.setHighlighted(null);
+  mapView.stops.setSelected(null);
+  mapView.setStops({ count: 0, lonLat: new Float32Array(0), label: new Int16Array(0), locked: new Uint8Array(0) });
+  mapView.setBoundaries(null);
+  mapView.setZones([], spread, null);
+  renderZoneTable();
+  renderWorkloadChart();
+  renderHistoryButtons();
+  renderStopZoneOptions();
+  renderStopDetails();
+  for (const id of ['zones-summary', 'compare-result']) $(id).textContent = '';
+  $('plan-title').textContent = 'No plan open';
+  delete document.body.dataset['planName'];
+}
+
+async function start(): Promise<void> {
+  renderZoneTable();
+  showRun(null);
+  await showProject();
   // Two frames so the canvases have painted before the window reports itself ready.
   requestAnimationFrame(() => requestAnimationFrame(() => (document.body.dataset['ready'] = '1')));
 }
+
+// The desktop menu opens projects and imports stops on the main side, then says what changed
+// (window.zoneplanEvents from the preload); the window shows it without a reload. Browser mode
+// has no menu and no such hook.
+(window as unknown as { zoneplanEvents?: AppEvents }).zoneplanEvents?.onChanged((change) => {
+  if (change.what === 'stops') return void showStopSet(change.stopSet);
+  // The reports of the project that was open no longer apply.
+  for (const id of ['import-report', 'chart-sweep', 'rebalance-result']) $(id).textContent = '';
+  void showProject();
+});
 
 void start();

@@ -1,8 +1,10 @@
 import path from 'node:path';
-import { pathToFileURL } from 'node:url';
+import type { ProjectInfo } from '../api/app-types.js';
 import { ensureDemoProject } from '../api/demo.js';
 import { AppSession } from '../api/session.js';
 import { toWireError } from '../api/wire-error.js';
+import { APP_INDEX_URL, APP_ORIGIN, registerAppScheme, serveAppFiles } from './app-protocol.js';
+import { CHANGED_CHANNEL, type AppChange } from './channels.js';
 import type { BrowserWindowLike, ElectronLike } from './electron-like.js';
 import { registerIpc, trustedFrame } from './ipc.js';
 import { menuTemplate, type MenuActions } from './menu.js';
@@ -22,13 +24,18 @@ const STOPS_FILTER = [{ name: 'Stops (CSV or GeoJSON)', extensions: ['csv', 'tsv
 
 /**
  * The desktop app: one window on one project (the last one opened, or the demo project on the
- * first start), its Api over IPC, and the menu's project, import and export commands.
+ * first start), its Api over IPC, and the menu's project, import and export commands. The window
+ * loads from the app's own scheme; after a menu command it is told what changed (CHANGED_CHANNEL)
+ * and redraws that itself, so the page is never reloaded.
  */
 export async function startDesktop(electron: ElectronLike, options: DesktopOptions): Promise<{ session: AppSession; window: BrowserWindowLike }> {
-  const { app, dialog, Menu } = electron;
+  const { app, dialog, Menu, protocol } = electron;
   const log = options.log ?? ((e: unknown) => console.error('zoneplan: internal error:', e));
+  // Electron reads the privileged schemes once, before it is ready: this runs before the first await.
+  registerAppScheme(protocol);
   app.on('web-contents-created', ((_event: unknown, contents: Parameters<typeof hardenWebContents>[0]) => hardenWebContents(contents)) as (...args: never[]) => void);
   await app.whenReady();
+  serveAppFiles(protocol, path.join(options.distDir, 'renderer'));
   const dataDir = app.getPath('userData');
   const recent = new RecentProjects(path.join(dataDir, 'recent-projects.json'));
   const session = new AppSession({ mode: 'desktop' });
@@ -36,26 +43,27 @@ export async function startDesktop(electron: ElectronLike, options: DesktopOptio
   await session.open(first);
   recent.add(first);
 
-  const indexHtml = path.join(options.distDir, 'renderer', 'index.html');
-  registerIpc(electron.ipcMain, session, trustedFrame(pathToFileURL(indexHtml).href), log);
-  const window = createMainWindow(electron, { preload: path.join(options.distDir, 'main', 'preload.cjs'), indexHtml });
+  registerIpc(electron.ipcMain, session, trustedFrame(APP_ORIGIN), log);
+  const window = createMainWindow(electron, { preload: path.join(options.distDir, 'main', 'preload.cjs'), url: APP_INDEX_URL });
 
   const fail = (title: string, e: unknown): void => {
     const w = toWireError(e);
     if (w.kind === 'internal') log(e);
     dialog.showErrorBox(title, w.message);
   };
-  const opened = (file: string): void => {
-    setMenu(recent.add(file));
-    window.webContents.reload();
+  const changed = (change: AppChange): void => {
+    if (!window.isDestroyed()) window.webContents.send(CHANGED_CHANNEL, change);
+  };
+  const opened = (info: ProjectInfo): void => {
+    setMenu(recent.add(info.file));
+    changed({ what: 'project', file: info.file });
   };
   const actions: MenuActions = {
     newProject: () => {
       void (async () => {
         const r = await dialog.showSaveDialog({ title: 'New project', defaultPath: 'project.zoneplan', filters: PROJECT_FILTER });
         if (r.canceled || !r.filePath) return;
-        await session.newProject(r.filePath);
-        opened(r.filePath);
+        opened(await session.newProject(r.filePath));
       })().catch((e: unknown) => fail('The project could not be made', e));
     },
     openProject: (file) => {
@@ -66,8 +74,7 @@ export async function startDesktop(electron: ElectronLike, options: DesktopOptio
           if (r.canceled || !r.filePaths[0]) return;
           chosen = r.filePaths[0];
         }
-        await session.openProject(chosen);
-        opened(chosen);
+        opened(await session.openProject(chosen));
       })().catch((e: unknown) => fail('The project could not be opened', e));
     },
     importStops: () => {
@@ -80,7 +87,7 @@ export async function startDesktop(electron: ElectronLike, options: DesktopOptio
           dialog.showErrorBox(`Nothing was imported: ${outcome.errorCount} problem${outcome.errorCount === 1 ? '' : 's'} in ${path.basename(outcome.file)}`, lines.join('\n'));
           return;
         }
-        window.webContents.reload();
+        changed({ what: 'stops', stopSet: outcome.stopSet.id });
       })().catch((e: unknown) => fail('The stops could not be imported', e));
     },
     exportPlan: () => {

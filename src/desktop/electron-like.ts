@@ -35,6 +35,8 @@ export interface IpcMainLike {
 
 export interface IpcRendererLike {
   invoke(channel: string, ...args: unknown[]): Promise<unknown>;
+  on(channel: string, listener: (event: unknown, ...args: unknown[]) => void): unknown;
+  removeListener(channel: string, listener: (event: unknown, ...args: unknown[]) => void): unknown;
 }
 
 export interface ContextBridgeLike {
@@ -48,7 +50,8 @@ export interface PreventableEvent {
 export interface WebContentsLike {
   on(event: 'will-navigate' | 'will-redirect' | 'will-attach-webview', listener: (event: PreventableEvent, ...rest: unknown[]) => void): unknown;
   setWindowOpenHandler(handler: (details: { url: string }) => { action: 'deny' }): void;
-  reload(): void;
+  /** A message to the page's preload (ipcRenderer.on). */
+  send(channel: string, ...args: unknown[]): void;
   readonly session: SessionLike;
 }
 
@@ -63,7 +66,8 @@ export interface SessionLike {
 
 export interface BrowserWindowLike {
   readonly webContents: WebContentsLike;
-  loadFile(file: string): Promise<void>;
+  loadURL(url: string): Promise<void>;
+  isDestroyed(): boolean;
   once(event: 'ready-to-show', listener: () => void): unknown;
   show(): void;
 }
@@ -92,6 +96,22 @@ export interface MenuItemOptionsLike {
   readonly submenu?: readonly MenuItemOptionsLike[];
 }
 
+export interface SchemePrivilegesLike {
+  readonly standard?: boolean;
+  readonly secure?: boolean;
+  readonly supportFetchAPI?: boolean;
+  readonly bypassCSP?: boolean;
+  readonly corsEnabled?: boolean;
+  readonly stream?: boolean;
+  readonly codeCache?: boolean;
+  readonly allowServiceWorkers?: boolean;
+}
+
+export interface ProtocolLike {
+  registerSchemesAsPrivileged(schemes: { scheme: string; privileges: SchemePrivilegesLike }[]): void;
+  handle(scheme: string, handler: (request: Request) => Response | Promise<Response>): void;
+}
+
 export interface ElectronLike {
   readonly app: {
     whenReady(): Promise<unknown>;
@@ -101,6 +121,7 @@ export interface ElectronLike {
   };
   readonly BrowserWindow: new (options: BrowserWindowOptionsLike) => BrowserWindowLike;
   readonly ipcMain: IpcMainLike;
+  readonly protocol: ProtocolLike;
   readonly dialog: DialogLike;
   readonly Menu: {
     buildFromTemplate(template: MenuItemOptionsLike[]): unknown;

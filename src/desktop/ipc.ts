@@ -5,9 +5,13 @@ import { API_METHODS, type WireReply } from '../api/wire.js';
 import { channelOf } from './channels.js';
 import type { FrameLike, IpcMainLike } from './electron-like.js';
 
-/** Only the app's own page, as the top frame, may call the Api (not a frame inside it, not another page). */
-export function trustedFrame(indexUrl: string): (frame: FrameLike | null) => boolean {
-  return (frame) => frame !== null && frame.parent === null && frame.url.split(/[?#]/)[0] === indexUrl;
+/**
+ * Only the app's own page, as the top frame, may call the Api: a frame of exactly the app's origin
+ * (app-protocol.ts APP_ORIGIN), not a frame inside it, not another page or scheme.
+ */
+export function trustedFrame(origin: string): (frame: FrameLike | null) => boolean {
+  const prefix = `${origin}/`;
+  return (frame) => frame !== null && frame.parent === null && typeof frame.url === 'string' && frame.url.startsWith(prefix);
 }
 
 /**

@@ -38,11 +38,12 @@ export function hardenSession(session: SessionLike): void {
   });
 }
 
-export function createMainWindow(electron: Pick<ElectronLike, 'BrowserWindow'>, files: { preload: string; indexHtml: string }): BrowserWindowLike {
+/** The map window, loaded from the app's own scheme (app-protocol.ts), never from file://. */
+export function createMainWindow(electron: Pick<ElectronLike, 'BrowserWindow'>, files: { preload: string; url: string }): BrowserWindowLike {
   const win = new electron.BrowserWindow({ width: 1280, height: 800, show: false, title: 'Zoneplan', webPreferences: secureWebPreferences(files.preload) });
   hardenWebContents(win.webContents);
   hardenSession(win.webContents.session);
   win.once('ready-to-show', () => win.show());
-  void win.loadFile(files.indexHtml);
+  void win.loadURL(files.url);
   return win;
 }

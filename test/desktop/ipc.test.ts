@@ -5,6 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Api } from '../../src/api/app-types.js';
 import { APP_CSP } from '../../src/api/content-policy.js';
 import { API_METHODS, type ApiMethod, type WireReply } from '../../src/api/wire.js';
+import { APP_INDEX_URL, APP_ORIGIN } from '../../src/desktop/app-protocol.js';
 import { channelOf } from '../../src/desktop/channels.js';
 import { startDesktop } from '../../src/desktop/desktop-app.js';
 import { registerIpc, trustedFrame } from '../../src/desktop/ipc.js';
@@ -15,11 +16,9 @@ import { createMainWindow, secureWebPreferences } from '../../src/desktop/window
 import type { AppSession } from '../../src/api/session.js';
 import { createProject } from '../../src/api/project.js';
 import { tempDir } from '../app/helpers.js';
-import { fakeElectron, FakeWindow, type Handler } from './stand-in.js';
+import { fakeElectron, FakeIpcRenderer, FakeWindow, type Handler } from './stand-in.js';
 
-const INDEX = '/opt/zoneplan/dist/renderer/index.html';
-const INDEX_URL = pathToFileURL(INDEX).href;
-const APP_FRAME = { url: INDEX_URL, parent: null };
+const APP_FRAME = { url: APP_INDEX_URL, parent: null };
 
 /** Arguments each method accepts (a call that passes validation). */
 const GOOD: { [M in ApiMethod]: unknown[] } = {
@@ -70,17 +69,10 @@ function spySession(): { api: Api; calls: [string, unknown[]][] } {
 describe('preload: exposes the Api through contextBridge', () => {
   it('exposes exactly the Api methods on window.zoneplan, each an IPC call', async () => {
     const exposed: Record<string, Record<string, unknown>> = {};
-    const invoked: [string, unknown[]][] = [];
-    exposeApi(
-      { exposeInMainWorld: (key, api) => (exposed[key] = api) },
-      {
-        invoke: async (channel, ...args) => {
-          invoked.push([channel, args]);
-          return { ok: true, value: `answer to ${channel}` } satisfies WireReply;
-        },
-      },
-    );
-    expect(Object.keys(exposed)).toEqual(['zoneplan']);
+    const ipc = new FakeIpcRenderer((channel) => ({ ok: true, value: `answer to ${channel}` }) satisfies WireReply);
+    const invoked = ipc.invoked;
+    exposeApi({ exposeInMainWorld: (key, api) => (exposed[key] = api) }, ipc);
+    expect(Object.keys(exposed)).toEqual(['zoneplan', 'zoneplanEvents']);
     const api = exposed.zoneplan!;
     expect(Object.keys(api).sort()).toEqual([...API_METHODS].sort());
     for (const m of API_METHODS) {
@@ -95,7 +87,7 @@ describe('preload: exposes the Api through contextBridge', () => {
     const exposed: Record<string, Record<string, unknown>> = {};
     exposeApi(
       { exposeInMainWorld: (key, api) => (exposed[key] = api) },
-      { invoke: async () => ({ ok: false, error: { kind: 'input', message: 'bad.csv: 1 error', problems: [{ severity: 'error', code: 'lat-range', file: 'bad.csv', row: 3, message: 'latitude 95 is out of range' }] } }) },
+      new FakeIpcRenderer(() => ({ ok: false, error: { kind: 'input', message: 'bad.csv: 1 error', problems: [{ severity: 'error', code: 'lat-range', file: 'bad.csv', row: 3, message: 'latitude 95 is out of range' }] } })),
     );
     await expect((exposed.zoneplan!.plan as (n: string) => Promise<unknown>)('x')).rejects.toThrow(/bad.csv: 1 error\nrow 3: latitude 95/);
   });
@@ -106,7 +98,7 @@ describe('preload: exposes the Api through contextBridge', () => {
     const requires = [...code.matchAll(/require\(["']([^"']+)["']\)/g)].map((m) => m[1]);
     expect(new Set(requires)).toEqual(new Set(['electron']));
     const exposed: Record<string, Record<string, unknown>> = {};
-    const electron = { contextBridge: { exposeInMainWorld: (k: string, a: Record<string, unknown>) => (exposed[k] = a) }, ipcRenderer: { invoke: async () => ({ ok: true, value: 1 }) } };
+    const electron = { contextBridge: { exposeInMainWorld: (k: string, a: Record<string, unknown>) => (exposed[k] = a) }, ipcRenderer: new FakeIpcRenderer() };
     const required: string[] = [];
     const fakeRequire = (id: string): unknown => {
       required.push(id);
@@ -117,6 +109,11 @@ describe('preload: exposes the Api through contextBridge', () => {
     new Function('require', 'module', 'exports', code)(fakeRequire, module, module.exports);
     expect(required).toEqual(['electron']);
     expect(Object.keys(exposed.zoneplan ?? {}).sort()).toEqual([...API_METHODS].sort());
+    expect(Object.keys(exposed.zoneplanEvents ?? {})).toEqual(['onChanged']);
+    const seen: unknown[][] = [];
+    (exposed.zoneplanEvents!.onChanged as (l: (...a: unknown[]) => void) => () => void)((...a) => seen.push(a));
+    electron.ipcRenderer.emit('zoneplan:changed', { sender: 'ipc event' }, { what: 'project', file: '/p/a.zoneplan' });
+    expect(seen).toEqual([[{ what: 'project', file: '/p/a.zoneplan' }]]);
   });
 });
 
@@ -130,7 +127,7 @@ describe('ipc: every method handled, every argument validated', () => {
     const spy = spySession();
     calls = spy.calls;
     logged = [];
-    registerIpc(e.ipcMain, spy.api, trustedFrame(INDEX_URL), (x) => logged.push(x));
+    registerIpc(e.ipcMain, spy.api, trustedFrame(APP_ORIGIN), (x) => logged.push(x));
     handlers = e.handlers;
   });
 
@@ -190,20 +187,37 @@ describe('ipc: every method handled, every argument validated', () => {
   });
 
   it('refuses calls from any page but the app, or from a frame inside it', async () => {
-    for (const senderFrame of [null, { url: 'https://evil.example/', parent: null }, { url: INDEX_URL, parent: APP_FRAME }, { url: 'file:///tmp/other.html', parent: null }]) {
+    const refused = [
+      null,
+      { url: 'https://evil.example/', parent: null },
+      { url: APP_INDEX_URL, parent: APP_FRAME },
+      { url: 'file:///tmp/other.html', parent: null },
+      // The page as the window loaded it before the app scheme: no longer trusted.
+      { url: pathToFileURL('/opt/zoneplan/dist/renderer/index.html').href, parent: null },
+      { url: 'zoneplan-app://evil/index.html', parent: null },
+      { url: 'zoneplan-app://app.evil.example/index.html', parent: null },
+      { url: 'zoneplan-app://app:8080/index.html', parent: null },
+      { url: 'zoneplan-app://app@evil.example/index.html', parent: null },
+      { url: 'zoneplan-apps://app/index.html', parent: null },
+      { url: 'https://app/index.html', parent: null },
+      { url: 'zoneplan-app://app', parent: null },
+    ];
+    for (const senderFrame of refused) {
       calls.length = 0;
       const reply = (await handlers.get(channelOf('project'))!({ senderFrame })) as WireReply;
       expect(reply.ok).toBe(false);
       expect(calls).toEqual([]);
     }
-    const withQuery = (await handlers.get(channelOf('mode'))!({ senderFrame: { url: `${INDEX_URL}?x=1#map`, parent: null } })) as WireReply;
+    const withQuery = (await handlers.get(channelOf('mode'))!({ senderFrame: { url: `${APP_INDEX_URL}?x=1#map`, parent: null } })) as WireReply;
     expect(withQuery.ok).toBe(true);
+    const root = (await handlers.get(channelOf('mode'))!({ senderFrame: { url: `${APP_ORIGIN}/`, parent: null } })) as WireReply;
+    expect(root.ok).toBe(true);
   });
 
   it('turns a fault of the session into an internal error without its stack', async () => {
     const e = fakeElectron('/tmp');
     const logs: unknown[] = [];
-    registerIpc(e.ipcMain, { ...spySession().api, project: async () => { throw new TypeError('x is undefined'); } } as Api, trustedFrame(INDEX_URL), (x) => logs.push(x));
+    registerIpc(e.ipcMain, { ...spySession().api, project: async () => { throw new TypeError('x is undefined'); } } as Api, trustedFrame(APP_ORIGIN), (x) => logs.push(x));
     const reply = (await e.handlers.get(channelOf('project'))!({ senderFrame: APP_FRAME })) as WireReply;
     expect(reply.ok).toBe(false);
     if (!reply.ok) {
@@ -217,7 +231,7 @@ describe('ipc: every method handled, every argument validated', () => {
 describe('window: the secure settings of Electron\'s security checklist', () => {
   it('uses isolated, sandboxed webPreferences without Node', () => {
     FakeWindow.created.length = 0;
-    const win = createMainWindow({ BrowserWindow: FakeWindow }, { preload: '/opt/zoneplan/dist/main/preload.cjs', indexHtml: INDEX }) as FakeWindow;
+    const win = createMainWindow({ BrowserWindow: FakeWindow }, { preload: '/opt/zoneplan/dist/main/preload.cjs', url: APP_INDEX_URL }) as FakeWindow;
     const p = win.options.webPreferences;
     expect(p).toEqual(secureWebPreferences('/opt/zoneplan/dist/main/preload.cjs'));
     expect(p.contextIsolation).toBe(true);
@@ -230,11 +244,11 @@ describe('window: the secure settings of Electron\'s security checklist', () => 
     expect(p.experimentalFeatures).toBe(false);
     expect(p.webviewTag).toBe(false);
     expect(p.preload.endsWith('.cjs')).toBe(true);
-    expect(win.loaded).toBe(INDEX);
+    expect(win.loaded).toBe('zoneplan-app://app/index.html');
   });
 
   it('blocks navigation, redirects, webviews and new windows', () => {
-    const win = createMainWindow({ BrowserWindow: FakeWindow }, { preload: '/p.cjs', indexHtml: INDEX }) as FakeWindow;
+    const win = createMainWindow({ BrowserWindow: FakeWindow }, { preload: '/p.cjs', url: APP_INDEX_URL }) as FakeWindow;
     expect(win.webContents.fire('will-navigate', 'https://evil.example/')).toBe(true);
     expect(win.webContents.fire('will-redirect', 'https://evil.example/')).toBe(true);
     expect(win.webContents.fire('will-attach-webview', {}, {})).toBe(true);
@@ -242,7 +256,7 @@ describe('window: the secure settings of Electron\'s security checklist', () => 
   });
 
   it('denies every permission request and check, and sets the CSP on every answer', () => {
-    const win = createMainWindow({ BrowserWindow: FakeWindow }, { preload: '/p.cjs', indexHtml: INDEX }) as FakeWindow;
+    const win = createMainWindow({ BrowserWindow: FakeWindow }, { preload: '/p.cjs', url: APP_INDEX_URL }) as FakeWindow;
     const s = win.webContents.session;
     for (const permission of ['media', 'geolocation', 'notifications', 'clipboard-read', 'openExternal', 'fullscreen']) {
       let granted: boolean | null = null;
