@@ -1,7 +1,8 @@
-// Builds the map window (renderer/) into dist/renderer: one IIFE script (an ES module bundle is
-// blocked over file:// in Chromium, and the desktop window loads the page from a file), the
-// style sheet esbuild extracts from the CSS imports (Leaflet's and ours), Leaflet's images, and
-// index.html. Imported by scripts/build.mjs; also runnable alone: node scripts/build-renderer.mjs
+// Builds the map window (renderer/) into dist/renderer: one IIFE script (index.html loads it as a
+// classic deferred script, in the desktop window from the zoneplan-app:// scheme of
+// src/desktop/app-protocol.ts and in browser mode over http), the style sheet esbuild extracts
+// from the CSS imports (Leaflet's and ours), Leaflet's images, and index.html. Imported by
+// scripts/build.mjs; also runnable alone: node scripts/build-renderer.mjs
 import * as esbuild from 'esbuild';
 import { cpSync, mkdirSync, rmSync } from 'node:fs';
 
