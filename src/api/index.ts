@@ -12,6 +12,7 @@ export {
   savePlanToProject,
   listPlans,
   loadPlan,
+  loadEditedPlan,
   renamePlan,
   appendEdit,
   listEdits,

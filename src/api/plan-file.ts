@@ -34,6 +34,8 @@ export interface SolvedPlan {
   readonly plan: Plan;
   readonly result: SolveResult;
   readonly figures: PlanFigures;
+  /** 1 for zones whose centre is a fixed depot, when manual pins and unpins decide it (an edited plan); else the plan's first fixedZones are. */
+  readonly pinned?: Uint8Array;
 }
 
 function solveSettings(s: PlanSettingsInput, zones: number): SolveSettings {
@@ -249,7 +251,7 @@ export function planLayers(solved: SolvedPlan, settings: BoundarySettings = {}):
     notes.push(`${boundaries.outside.length} stop${boundaries.outside.length === 1 ? ' lies' : 's lie'} in another zone's territory (locks, capacity or small detached parts); they are marked outsideZone in the stops`);
   }
   if (boundaries && boundaries.beyondArea.length > 0) notes.push(`${boundaries.beyondArea.length} stop${boundaries.beyondArea.length === 1 ? ' lies' : 's lie'} outside the service area (in no zone's polygon; marked outsideZone in the stops too)`);
-  return { stops, plan, stats, boundaries, notes };
+  return { stops, plan, stats, boundaries, notes, fixed: solved.pinned ?? null };
 }
 
 /**

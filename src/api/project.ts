@@ -5,6 +5,7 @@ import type { LimitedResult } from '../solve/limited.js';
 import type { SolveResult } from '../solve/types.js';
 import { planFigures } from '../zones/stats.js';
 import { ProjectStore, ProjectError, lockHolder, lockedError, type EditToAdd, type StoredEdit, type StoredPlanInfo, type StoredStopSet, type ZoneStats } from '../store/index.js';
+import { applyEdits, type EditedPlan } from './edited-plan.js';
 import { planReport, solveStops, writePlanFiles, type BoundarySettings, type RunHooks, type SolvedPlan } from './plan-file.js';
 import type {
   InputProblem,
@@ -207,7 +208,7 @@ function editFrom(store: ProjectStore, planName: string, edit: PlanEditInput): P
   }
   if (edit.zone !== undefined) {
     const z = zoneIds.indexOf(edit.zone);
-    if (z < 0) throw bad(`plan "${info.name}" has no zone ${JSON.stringify(edit.zone)}; its zones are ${zoneIds[0]}..${zoneIds[zoneIds.length - 1]}`);
+    if (z < 0) throw bad(`plan "${info.name}" has no zone ${JSON.stringify(edit.zone)}; its zones are ${Math.min(...zoneIds)}..${Math.max(...zoneIds)}`);
     add.toZone = z;
   } else if (edit.kind === 'move' || centre) throw bad(`a ${edit.kind} edit needs the zone`);
   return editRow(store.appendEdit(planName, add), zoneIds);
@@ -321,6 +322,14 @@ export async function loadPlan(file: string, name: string): Promise<LoadedPlan> 
   return withStore(file, false, (store) => loadFrom(store, name));
 }
 
+/** A saved plan with its manual edits applied in order: the plan as the window shows it, for export and rebalance. */
+export async function loadEditedPlan(file: string, name: string): Promise<EditedPlan> {
+  return withStore(file, false, (store) => {
+    const loaded = loadFrom(store, name);
+    return applyEdits(loaded, store.listEdits(loaded.info.name));
+  });
+}
+
 export async function renamePlan(file: string, from: string, to: string): Promise<ProjectPlanRow> {
   return withStore(file, true, (store) => planRow(store.renamePlan(from, to)));
 }
@@ -381,14 +390,14 @@ export async function planStopsFileToProject(
   return { report: { ...planReport(solved, { readMs: t1 - t0, solveMs: t2 - t1, writeMs: t3 - t2 }, out), notes }, saved };
 }
 
-/** Writes a saved plan's GeoJSON and/or assignments CSV (each all or nothing). Returns notes on the boundaries. */
+/** Writes a saved plan's GeoJSON and/or assignments CSV (all or nothing), with its manual edits applied. Returns notes on the boundaries. */
 export async function exportPlanFromProject(
   file: string,
   name: string,
   out: { geojson?: string; assignments?: string },
   boundarySettings: BoundarySettings = {},
 ): Promise<{ plan: ProjectPlanRow; notes: string[] }> {
-  const loaded = await loadPlan(file, name);
-  const notes = writePlanFiles(loaded, out, boundarySettings);
-  return { plan: loaded.info, notes };
+  const edited = await loadEditedPlan(file, name);
+  const notes = writePlanFiles(edited, out, boundarySettings);
+  return { plan: edited.loaded.info, notes };
 }

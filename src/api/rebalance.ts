@@ -26,29 +26,36 @@ export interface RebalanceOptions {
 }
 
 /**
- * Rebalances a plan for a new stop set (stops matched by id: added, removed, demand changed,
- * moved): same zones (labels and names kept; fixed centres stay, free ones may move), within
- * the limits of the original settings (or new ones), as few stops changing zone as the limits
- * and the budget allow. Stops of a removed zone must move and do not count against the budget;
- * added zones start at the stops the current centres serve worst.
- */
-/**
  * The default move cost as a share of the old plan's mean squared km per unit of demand. Our own
  * choice (common practice, no source): small enough that real imbalances are still fixed, large
  * enough that unchanged demand moves nothing.
  */
 export const DEFAULT_MOVE_SHARE = 0.1;
 
-export function rebalancePlan(old: { stops: StopSet; plan: Plan }, stops: StopSet, options: RebalanceOptions = {}): { solved: SolvedPlan; report: RebalanceReport } {
+/**
+ * Rebalances a plan for a new stop set (stops matched by id: added, removed, demand changed,
+ * moved): same zones (labels and names kept; fixed centres stay, free ones may move), within
+ * the limits of the original settings (or new ones), as few stops changing zone as the limits
+ * and the budget allow. Stops of a removed zone must move and do not count against the budget;
+ * added zones start at the stops the current centres serve worst. From an edited plan (with
+ * `pinned`), the fixed centres are those pinned now (depots of the run and centres pinned by
+ * hand, less those freed since), each staying where it was pinned; locked stops stay in the zone
+ * they are locked to. The fixed zones come first in the new plan, as a plan's depots do.
+ */
+export function rebalancePlan(old: { stops: StopSet; plan: Plan; pinned?: Uint8Array }, stops: StopSet, options: RebalanceOptions = {}): { solved: SolvedPlan; report: RebalanceReport } {
   const { plan } = old;
   const oldK = plan.zoneIds.length;
   const removed = new Set(options.removeZones ?? []);
   for (const z of removed) {
     if (!plan.zoneIds.includes(z)) throw new SolveError(`zone ${z} is not in the plan (its zones are ${plan.zoneIds.join(', ')})`, 'settings');
   }
-  // New zone list: the kept zones in their order, then the added ones.
+  const isFixed = (j: number): boolean => (old.pinned ? old.pinned[j] === 1 : j < plan.fixedZones);
+  // New zone list: the kept zones with fixed centres, then the other kept ones, each in their
+  // order, then the added ones.
   const kept: number[] = [];
-  for (let j = 0; j < oldK; j++) if (!removed.has(plan.zoneIds[j]!)) kept.push(j);
+  for (let j = 0; j < oldK; j++) if (!removed.has(plan.zoneIds[j]!) && isFixed(j)) kept.push(j);
+  const fixedZones = kept.length;
+  for (let j = 0; j < oldK; j++) if (!removed.has(plan.zoneIds[j]!) && !isFixed(j)) kept.push(j);
   const add = options.addZones ?? 0;
   if (!(Number.isInteger(add) && add >= 0)) throw new SolveError(`zones to add must be a whole number >= 0, got ${add}`, 'settings');
   const k = kept.length + add;
@@ -58,15 +65,7 @@ export function rebalancePlan(old: { stops: StopSet; plan: Plan }, stops: StopSe
   let nextLabel = Math.max(0, ...plan.zoneIds) + 1;
   const zoneIds = [...kept.map((j) => plan.zoneIds[j]!), ...Array.from({ length: add }, () => nextLabel++)];
   const zoneNames = [...kept.map((j) => plan.zoneNames[j] ?? null), ...new Array<string | null>(add).fill(null)];
-  // Fixed zones stay first and fixed (if kept).
-  const fixed = new Uint8Array(k);
-  let fixedZones = 0;
-  kept.forEach((j, t) => {
-    if (j < plan.fixedZones) {
-      fixed[t] = 1;
-      if (t === fixedZones) fixedZones++;
-    }
-  });
+  const fixed = new Uint8Array(k).fill(1, 0, fixedZones);
 
   // Match stops by id.
   const oldIndex = new Map<string, number>();
@@ -89,7 +88,8 @@ export function rebalancePlan(old: { stops: StopSet; plan: Plan }, stops: StopSe
     else before[i] = z;
     if (stops.demand[i] !== old.stops.demand[o]) demandChanged++;
     if (stops.lonLat[2 * i] !== old.stops.lonLat[2 * o] || stops.lonLat[2 * i + 1] !== old.stops.lonLat[2 * o + 1]) positionChanged++;
-    if (locked && plan.locked![o]! >= 0 && z >= 0) locked[i] = z;
+    const lockedTo = locked ? plan.locked![o]! : -1;
+    if (lockedTo >= 0 && newIndex[lockedTo]! >= 0) locked![i] = newIndex[lockedTo]!;
   }
   const newIds = new Set(stops.ids);
   let removedStops = 0;

@@ -8,7 +8,7 @@ import type { StopFileOptions, PlanSettingsInput } from '../api/types.js';
 import { ImportError, formatProblem } from '../io/problems.js';
 import { WriteError } from '../io/atomic.js';
 import { SolveError } from '../solve/types.js';
-import { checkPlanCanBeSaved, createProject, importStopsToProject, listPlans, loadPlan, planStopsFileToProject, savePlanToProject } from '../api/project.js';
+import { checkPlanCanBeSaved, createProject, importStopsToProject, listPlans, loadEditedPlan, planStopsFileToProject, savePlanToProject } from '../api/project.js';
 import { resultOfPlan, writePlanFiles, writePlanLayers, type SolvedPlan } from '../api/plan-file.js';
 import { comparePlans, rebalancePlan } from '../api/rebalance.js';
 import { readPlanFile } from '../io/plan-reader.js';
@@ -422,7 +422,7 @@ function addProjectCommands(program: Command, io: CliIo): void {
 
   program
     .command('export')
-    .description('write a plan (saved in a project, or a plan GeoJSON file) as GeoJSON, separate layers and/or an assignments CSV')
+    .description('write a plan (saved in a project, with its manual edits; or a plan GeoJSON file) as GeoJSON, separate layers and/or an assignments CSV')
     .argument('<file>', 'a project file (with --plan), or a plan GeoJSON file written by zoneplan plan --out')
     .option('--plan <name>', 'the saved plan to export (see zoneplan plans FILE)')
     .option('-o, --out <file>', 'write the plan as one GeoJSON (RFC 7946): zones, centres and stops')
@@ -441,7 +441,7 @@ function addProjectCommands(program: Command, io: CliIo): void {
       let label: string;
       if (isProject) {
         if (typeof o.plan !== 'string') cmd.error('error: a project holds many plans: name one with --plan NAME (see zoneplan plans FILE)', { exitCode: EXIT_USAGE });
-        solved = await loadPlan(file, o.plan as string);
+        solved = await loadEditedPlan(file, o.plan as string);
         label = `plan ${o.plan as string}`;
       } else {
         const read = readPlanFile(file);
@@ -469,8 +469,8 @@ function addProjectCommands(program: Command, io: CliIo): void {
     .option('--json', 'print the comparison as JSON on stdout')
     .option('--list <n>', 'list at most n changed stops (default 20)', wholeNumber(0, 'list'))
     .action(async (file: string, a: string, b: string, o: Record<string, unknown>) => {
-      const pa = await loadPlan(file, a);
-      const pb = await loadPlan(file, b);
+      const pa = await loadEditedPlan(file, a);
+      const pb = await loadEditedPlan(file, b);
       const c = comparePlans(pa, pb);
       if (o.json) io.out(`${JSON.stringify(c, null, 2)}\n`);
       else io.out(`${comparisonText(c, a, b, (o.list as number | undefined) ?? 20)}\n`);
@@ -494,7 +494,7 @@ function addProjectCommands(program: Command, io: CliIo): void {
     .option('-o, --out <file>', 'also write the new plan as GeoJSON')
     .option('--json', 'print the report as JSON on stdout')
     .action(async (file: string, o: Record<string, unknown>) => {
-      const old = await loadPlan(file, o.plan as string);
+      const old = await loadEditedPlan(file, o.plan as string);
       const stops = readStopsFile(o.stops as string, readOptions(o));
       const limits =
         o.capacity !== undefined || o.balance !== undefined

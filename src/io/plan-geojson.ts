@@ -35,6 +35,8 @@ export interface PlanLayers {
   readonly plan: Plan;
   readonly stats: PlanStatistics;
   readonly boundaries: Boundaries | null;
+  /** 1 for zones whose centre is a fixed depot (the plan's depots and the centres pinned by hand); default: the plan's first fixedZones. */
+  readonly fixed?: Uint8Array | null;
 }
 
 function summary(l: PlanLayers, generator: string): PlanSummary {
@@ -98,7 +100,7 @@ function* zoneFeatures(l: PlanLayers, role: boolean): Generator<string> {
   if (!l.boundaries) return;
   for (const z of l.stats.zones) {
     const g = l.boundaries.zones[z.zone];
-    const props = { ...(role ? { role: 'zone' } : {}), ...zoneProperties(l.plan, z) };
+    const props = { ...(role ? { role: 'zone' } : {}), ...zoneProperties(l.plan, z, l.fixed) };
     // The zones layer (no role) has one geometry type, as GIS layers want: every zone a
     // MultiPolygon (RFC 7946 section 3.1.7), a Polygon being one of one. The plan file mixes
     // geometry types anyway (zones, centres, stops) and keeps each zone's own type.
@@ -108,7 +110,7 @@ function* zoneFeatures(l: PlanLayers, role: boolean): Generator<string> {
 
 function* centreFeatures(l: PlanLayers, role: boolean): Generator<string> {
   for (const z of l.stats.zones) {
-    const props = { ...(role ? { role: 'centre' } : {}), ...zoneProperties(l.plan, z) };
+    const props = { ...(role ? { role: 'centre' } : {}), ...zoneProperties(l.plan, z, l.fixed) };
     yield `{"type":"Feature","geometry":{"type":"Point","coordinates":[${deg6(z.centreLon)},${deg6(z.centreLat)}]},"properties":${JSON.stringify(props)}}`;
   }
 }

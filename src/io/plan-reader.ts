@@ -41,11 +41,11 @@ export function readPlanFile(file: string): PlanFile {
   const doc = JSON.parse(text.replace(/^\uFEFF/, '')) as { features: Feature[]; plan?: Record<string, unknown> };
   const log = new ProblemLog(file);
   // Zones, in the order of their centres.
-  const labels: number[] = [];
-  const names: (string | null)[] = [];
-  const fixed: boolean[] = [];
-  const centres: number[] = [];
-  const capacity: number[] = [];
+  let labels: number[] = [];
+  let names: (string | null)[] = [];
+  let fixed: boolean[] = [];
+  let centres: number[] = [];
+  let capacity: number[] = [];
   const zoneAt = new Map<number, number>();
   doc.features.forEach((f, index) => {
     if (f?.properties?.role !== 'centre') return;
@@ -72,6 +72,17 @@ export function readPlanFile(file: string): PlanFile {
     capacity.push(typeof cap === 'number' ? cap : Infinity);
   });
   if (labels.length === 0 && log.ok) log.error({ code: 'no-centres', message: 'the file has no zone centres (features with role "centre"): is it a Zoneplan plan file?' });
+  // Fixed zones come first in a plan. A file of a plan with centres pinned by hand has them
+  // anywhere: they are taken first, each group in the file's order.
+  const order = [...labels.keys()].sort((a, b) => Number(fixed[b]) - Number(fixed[a]) || a - b);
+  if (order.some((j, t) => j !== t)) {
+    labels = order.map((j) => labels[j]!);
+    names = order.map((j) => names[j] ?? null);
+    fixed = order.map((j) => fixed[j]!);
+    centres = order.flatMap((j) => centres.slice(3 * j, 3 * j + 3));
+    capacity = order.map((j) => capacity[j]!);
+    labels.forEach((zone, t) => zoneAt.set(zone, t));
+  }
   // The zone of every stop, in the order the stop reader kept them.
   const assignment = new Int32Array(stops.ids.length);
   const locked = new Int32Array(stops.ids.length).fill(-1);
@@ -96,7 +107,6 @@ export function readPlanFile(file: string): PlanFile {
     if (z !== undefined && (f.geometry?.type === 'Polygon' || f.geometry?.type === 'MultiPolygon')) zones[z] = f.geometry as Polygon | MultiPolygon;
   });
   log.throwIfErrors();
-  // Fixed zones come first in a plan; a file from Zoneplan keeps them first.
   let fixedZones = 0;
   while (fixedZones < fixed.length && fixed[fixedZones]) fixedZones++;
   const summary = doc.plan ?? {};

@@ -2,13 +2,16 @@ import type { Plan } from '../solve/plan.js';
 import type { ZoneStatistics } from '../zones/report.js';
 import { round } from './format.js';
 
-/** Flat GeoJSON properties of a zone (for zone polygons and centres): GIS tools read them as columns. */
-export function zoneProperties(plan: Plan, z: ZoneStatistics): Record<string, string | number | boolean | null> {
+/**
+ * Flat GeoJSON properties of a zone (for zone polygons and centres): GIS tools read them as columns.
+ * `fixed` says per zone whether its centre is a fixed depot; without it, the plan's first fixedZones are.
+ */
+export function zoneProperties(plan: Plan, z: ZoneStatistics, fixed?: Uint8Array | null): Record<string, string | number | boolean | null> {
   const r = (x: number | null, places: number): number | null => (x === null || !Number.isFinite(x) ? null : round(x, places));
   return {
     zone: plan.zoneIds[z.zone]!,
     name: plan.zoneNames[z.zone] ?? null,
-    fixed: z.zone < plan.fixedZones,
+    fixed: fixed ? fixed[z.zone] === 1 : z.zone < plan.fixedZones,
     stops: z.stops,
     demand: z.demand,
     share: r(z.share, 6),

@@ -8,7 +8,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { solveStops, type SolvedPlan } from '../../src/api/plan-file.js';
 import { comparePlans, rebalancePlan } from '../../src/api/rebalance.js';
 import { EARTH_RADIUS_KM } from '../../src/geo/constants.js';
-import { lonLatFromVector } from '../../src/geo/unit.js';
+import { lonLatFromVector, unitFromLonLat } from '../../src/geo/unit.js';
 import type { StopSet } from '../../src/io/stopset.js';
 import { zoneBounds, type LimitSettings } from '../../src/solve/limits.js';
 import type { Plan } from '../../src/solve/plan.js';
@@ -321,6 +321,58 @@ describe('rebalancePlan: fixed centres and locked stops, stops matched by id', (
     expect(solved.plan.zoneIds).toEqual([2, 3, 4, 5]);
     expect(solved.plan.fixedZones).toBe(1);
     expect(Array.from(solved.plan.centres.subarray(0, 3))).toEqual(Array.from(old.plan.centres.subarray(3, 6)));
+  });
+});
+
+describe('rebalancePlan: centres pinned and freed by hand (an edited plan)', () => {
+  // 9 towns, 5 zones; zone 1 a depot of the run. Edited: zone 1 freed, zones 3 and 5 pinned
+  // (zone 3 moved 5 km east first), per-zone capacities; stop 0 locked to a zone it is not in.
+  let t: Towns;
+  let old: SolvedPlan & { pinned: Uint8Array };
+  let pinnedAt: Float64Array;
+  let caps: number[];
+
+  beforeAll(async () => {
+    t = towns(new Array(9).fill(40), 12);
+    const solved = await solveStops(t.stops, { zones: 5, seed: 2, restarts: 2, threads: 1 });
+    const centres = solved.plan.centres.slice();
+    const [lon, lat] = centreLonLat(solved.plan, 2);
+    centres.set(unitFromLonLat(lon + 0.067, lat), 6);
+    pinnedAt = centres;
+    const locked = new Int32Array(t.stops.ids.length).fill(-1);
+    locked[0] = (solved.plan.assignment[0]! + 1) % 5;
+    caps = [1, 2, 3, 4, 5].map((z) => Math.ceil((1.3 + 0.01 * z) * total(t.stops.demand) / 5));
+    old = { ...solved, plan: { ...solved.plan, centres, fixedZones: 1, locked, limitSettings: { capacity: caps } }, pinned: Uint8Array.from([0, 0, 1, 0, 1]) };
+  });
+
+  it('keeps the pinned centres exactly, frees the freed depot, puts the fixed zones first with their limits and names', () => {
+    const next = withDemand(t.stops, Float64Array.from(t.stops.demand, (w, i) => (t.town[i] === 4 ? 2 * w : w)));
+    const { solved } = rebalancePlan(old, next);
+    expect(solved.plan.zoneIds).toEqual([3, 5, 1, 2, 4]);
+    expect(solved.plan.fixedZones).toBe(2);
+    expect(Array.from(solved.plan.centres.subarray(0, 3))).toEqual(Array.from(pinnedAt.subarray(6, 9)));
+    expect(Array.from(solved.plan.centres.subarray(3, 6))).toEqual(Array.from(pinnedAt.subarray(12, 15)));
+    expect(haversineKm(...centreLonLat(old.plan, 2), ...centreLonLat(solved.plan, 0))).toBe(0);
+    // The freed depot (zone 1) and the other free centres follow their zones.
+    const drift = Math.max(...[2, 3, 4].map((t2) => haversineKm(...centreLonLat(old.plan, solved.plan.zoneIds[t2]! - 1), ...centreLonLat(solved.plan, t2))));
+    expect(drift).toBeGreaterThan(0.01);
+    // Per-zone capacities go with their zones.
+    expect(solved.plan.limitSettings!.capacity).toEqual(solved.plan.zoneIds.map((z) => caps[z - 1]));
+    expect(breaches({ capacity: solved.plan.limitSettings!.capacity! }, next, solved.plan)).toEqual([]);
+    // The lock holds the stop in the zone it is locked to.
+    const lockedTo = old.plan.zoneIds[old.plan.locked![0]!]!;
+    expect(solved.plan.zoneIds[solved.plan.assignment[0]!]).toBe(lockedTo);
+    expect(solved.plan.locked![0]).toBe(solved.plan.zoneIds.indexOf(lockedTo));
+  });
+
+  it('without the edits the depot of the run stays fixed and the pins are not taken', () => {
+    const { pinned: _pinned, ...asSolved } = old;
+    const { solved } = rebalancePlan(asSolved, t.stops);
+    expect(solved.plan.zoneIds).toEqual([1, 2, 3, 4, 5]);
+    expect(solved.plan.fixedZones).toBe(1);
+    expect(Array.from(solved.plan.centres.subarray(0, 3))).toEqual(Array.from(old.plan.centres.subarray(0, 3)));
+    // Zone 3's centre, put 5 km off its stops but not pinned, moves back towards them.
+    expect(haversineKm(...centreLonLat(old.plan, 2), ...centreLonLat(solved.plan, 2))).toBeGreaterThan(0.5);
   });
 });
 

@@ -1,6 +1,7 @@
 /**
  * zoneplan plan --out with the zone boundary options: --margin-km, --service-area, --no-boundaries,
- * and bad service-area files.
+ * and bad service-area files; zoneplan export and rebalance of a project plan with manual edits
+ * (centres pinned and freed, stops moved and locked), checked with geojson-validation.
  *
  * Sources of the requirements (the issue): "By default the service area is the hull of all stops
  * buffered by a margin in km; a user-supplied service-area polygon (GeoJSON) replaces it." The exit
@@ -10,13 +11,18 @@
  * with a hole at lon 10.55 - 10.71, lat 48.76 - 48.85; bad-*.geojson, one problem each).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import * as turf from '@turf/turf';
-import type { Feature, FeatureCollection, Geometry } from 'geojson';
+import type { Feature, FeatureCollection, Geometry, Point } from 'geojson';
+import * as GJV from 'geojson-validation';
+import { appendEdit, loadPlan } from '../../src/api/project.js';
 import { main, type CliIo } from '../../src/cli/main.js';
+import { lonLatFromVector } from '../../src/geo/unit.js';
+import { readPlanFile } from '../../src/io/plan-reader.js';
 import { readStopsFile } from '../../src/io/read.js';
+import { stopsCsv as townsCsv, towns, withDemand } from '../fixtures/rebalance/towns.js';
 import { rfc7946Problems, turfKm2, type Poly } from '../zones/support.js';
 
 const root = path.resolve(import.meta.dirname, '../..');
@@ -200,5 +206,132 @@ describe('zone polygons across the antimeridian from the command line', () => {
     expect(io.stderr()).not.toMatch(/internal error/);
     expect(code).toBe(0);
     expect(zonesOf(JSON.parse(readFileSync(file, 'utf8')) as Doc)).toHaveLength(11);
+  });
+});
+
+describe('export and rebalance of a project plan with manual edits (as the window shows it)', () => {
+  // 9 towns of 30 stops, 4 zones, saved in a project; edits by the project API (what the window
+  // records): zone 2's centre pinned 5 km east of where it was solved, stop T0-0 moved to the zone
+  // of town 8 and locked there. Plan "freed" has the same pin, then freed.
+  const t = towns(new Array(9).fill(30), 5);
+  let project: string;
+  let pin: [number, number];
+  let moved: { id: string; zone: number };
+
+  async function cli(args: string[]): Promise<{ code: number; out: string; err: string }> {
+    const io = capture();
+    const code = await main(args, io);
+    return { code, out: io.stdout(), err: io.stderr() };
+  }
+  const read = <T>(file: string): T => JSON.parse(readFileSync(file, 'utf8')) as T;
+  /** Haversine great-circle km between [lon, lat] degrees (textbook formula; independent of src/geo). */
+  const distanceKm = (lon1: number, lat1: number, lon2: number, lat2: number): number => {
+    const rad = Math.PI / 180;
+    const a = Math.sin(((lat2 - lat1) * rad) / 2) ** 2 + Math.cos(lat1 * rad) * Math.cos(lat2 * rad) * Math.sin(((lon2 - lon1) * rad) / 2) ** 2;
+    return 2 * 6371.0088 * Math.asin(Math.min(1, Math.sqrt(a)));
+  };
+  const centresOf = (d: Doc): Feature<Geometry | null>[] => d.features.filter((f) => f.properties?.role === undefined || f.properties.role === 'centre');
+
+  beforeAll(async () => {
+    project = path.join(work, 'edited.zoneplan');
+    const csv = path.join(work, 'towns.csv');
+    writeFileSync(csv, townsCsv(t.stops));
+    expect((await cli(['project', 'new', project])).code).toBe(0);
+    for (const name of ['edited', 'freed']) {
+      const r = await cli(['plan', csv, '-k', '4', '--seed', '1', '--restarts', '1', '--threads', '1', '--project', project, '--name', name]);
+      expect(r.code, r.err).toBe(0);
+    }
+    const solved = await loadPlan(project, 'edited');
+    const j = solved.plan.zoneIds.indexOf(2);
+    const [lon, lat] = lonLatFromVector(solved.plan.centres[3 * j]!, solved.plan.centres[3 * j + 1]!, solved.plan.centres[3 * j + 2]!);
+    pin = [Number((lon + 0.067).toFixed(6)), Number(lat.toFixed(6))];
+    for (const name of ['edited', 'freed']) await appendEdit(project, name, { kind: 'pin-centre', zone: 2, lon: pin[0], lat: pin[1] });
+    await appendEdit(project, 'freed', { kind: 'unpin-centre', zone: 2 });
+    const town8 = t.stops.ids.indexOf('T8-0');
+    moved = { id: 'T0-0', zone: solved.plan.zoneIds[solved.plan.assignment[town8]!]! };
+    expect(solved.plan.zoneIds[solved.plan.assignment[0]!]).not.toBe(moved.zone);
+    await appendEdit(project, 'edited', { kind: 'move', stopId: moved.id, zone: moved.zone });
+    await appendEdit(project, 'edited', { kind: 'lock', stopId: moved.id });
+  });
+
+  it('export --layers writes the pinned centre where it was pinned, fixed, and the stops as moved and locked', async () => {
+    const dir = path.join(work, 'edited-layers');
+    const r = await cli(['export', project, '--plan', 'edited', '--layers', dir]);
+    expect(r.code, r.err).toBe(0);
+    const centres = read<Doc>(path.join(dir, 'centres.geojson'));
+    // geojson-validation: the layer is RFC 7946 structure.
+    expect(GJV.valid(centres, true)).toEqual([]);
+    expect(rfc7946Problems(centres, 'centres.geojson')).toEqual([]);
+    expect(centresOf(centres).map((f) => [f.properties!.zone, f.properties!.fixed])).toEqual([
+      [1, false],
+      [2, true],
+      [3, false],
+      [4, false],
+    ]);
+    const c2 = centresOf(centres).find((f) => f.properties!.zone === 2)!.geometry as Point;
+    expect(c2.coordinates).toEqual(pin);
+    const zones = read<Doc>(path.join(dir, 'zones.geojson'));
+    expect(zones.features.map((f) => [f.properties!.zone, f.properties!.fixed])).toEqual(centresOf(centres).map((f) => [f.properties!.zone, f.properties!.fixed]));
+    const stops = read<Doc>(path.join(dir, 'stops.geojson'));
+    expect(GJV.valid(stops, true)).toEqual([]);
+    const stop = stops.features.find((f) => f.properties!.id === moved.id)!;
+    expect(stop.properties).toMatchObject({ zone: moved.zone, locked: true });
+    expect(stops.features.filter((f) => f.properties!.locked === true)).toHaveLength(1);
+    const csvRows = readFileSync(path.join(dir, 'assignments.csv'), 'utf8').trim().split('\n').slice(1);
+    expect(csvRows.find((l) => l.startsWith(`${moved.id},`))!.split(',')[1]).toBe(String(moved.zone));
+  });
+
+  it('export --out: the plan GeoJSON says the same, and re-imports with the pinned zone fixed (the fixed zones first)', async () => {
+    const out = path.join(work, 'edited.geojson');
+    expect((await cli(['export', project, '--plan', 'edited', '--out', out])).code).toBe(0);
+    const doc = read<Doc>(out);
+    expect(GJV.valid(doc, true)).toEqual([]);
+    expect(centresOf(doc).filter((f) => f.properties!.fixed === true).map((f) => [f.properties!.zone, (f.geometry as Point).coordinates])).toEqual([[2, pin]]);
+    const back = readPlanFile(out);
+    expect(back.plan.zoneIds).toEqual([2, 1, 3, 4]);
+    expect(back.plan.fixedZones).toBe(1);
+    expect(lonLatFromVector(back.plan.centres[0]!, back.plan.centres[1]!, back.plan.centres[2]!).map((x) => Number(x.toFixed(6)))).toEqual(pin);
+    const i = back.stops.ids.indexOf(moved.id);
+    expect(back.plan.zoneIds[back.plan.assignment[i]!]).toBe(moved.zone);
+    expect(back.plan.locked![i]).toBe(back.plan.assignment[i]);
+    // Written again from the file: the same centres and flags.
+    const again = path.join(work, 'edited-again');
+    expect((await cli(['export', out, '--layers', again])).code).toBe(0);
+    const sorted = (d: Doc): unknown[] => centresOf(d).map((f) => [f.properties!.zone, f.properties!.fixed, (f.geometry as Point).coordinates]).sort((a, b) => (a as number[])[0]! - (b as number[])[0]!);
+    expect(sorted(read<Doc>(path.join(again, 'centres.geojson')))).toEqual(sorted(read<Doc>(path.join(work, 'edited-layers', 'centres.geojson'))));
+  });
+
+  it('pinned then freed: the centres layer has no fixed centre, zone 2 where it was freed', async () => {
+    const dir = path.join(work, 'freed-layers');
+    expect((await cli(['export', project, '--plan', 'freed', '--layers', dir])).code).toBe(0);
+    const centres = read<Doc>(path.join(dir, 'centres.geojson'));
+    expect(GJV.valid(centres, true)).toEqual([]);
+    expect(centresOf(centres).map((f) => f.properties!.fixed)).toEqual([false, false, false, false]);
+    expect((centresOf(centres).find((f) => f.properties!.zone === 2)!.geometry as Point).coordinates).toEqual(pin);
+  });
+
+  it('rebalance keeps the pinned centre exactly where it was pinned and the locked stop in its zone; freed, the centre moves', async () => {
+    const week2 = path.join(work, 'towns-week2.csv');
+    writeFileSync(week2, townsCsv(withDemand(t.stops, Float64Array.from(t.stops.demand, (w, i) => (t.town[i] === 4 ? 2 * w : w)))));
+    const out = path.join(work, 'edited-week2.geojson');
+    const r = await cli(['rebalance', project, '--plan', 'edited', '--stops', week2, '--name', 'edited week 2', '--out', out]);
+    expect(r.code, r.err).toBe(0);
+    const after = await loadPlan(project, 'edited week 2');
+    expect(after.plan.zoneIds).toEqual([2, 1, 3, 4]);
+    expect(after.plan.fixedZones).toBe(1);
+    const c = lonLatFromVector(after.plan.centres[0]!, after.plan.centres[1]!, after.plan.centres[2]!);
+    expect(distanceKm(pin[0], pin[1], c[0], c[1])).toBeLessThanOrEqual(1e-9);
+    const i = after.stops.ids.indexOf(moved.id);
+    expect(after.plan.zoneIds[after.plan.assignment[i]!]).toBe(moved.zone);
+    expect(after.plan.locked![i]).toBe(after.plan.assignment[i]);
+    expect(centresOf(read<Doc>(out)).filter((f) => f.properties!.fixed === true).map((f) => f.properties!.zone)).toEqual([2]);
+
+    const freed = await cli(['rebalance', project, '--plan', 'freed', '--stops', week2, '--name', 'freed week 2']);
+    expect(freed.code, freed.err).toBe(0);
+    const f = await loadPlan(project, 'freed week 2');
+    expect(f.plan.fixedZones).toBe(0);
+    const j = f.plan.zoneIds.indexOf(2);
+    const cf = lonLatFromVector(f.plan.centres[3 * j]!, f.plan.centres[3 * j + 1]!, f.plan.centres[3 * j + 2]!);
+    expect(distanceKm(pin[0], pin[1], cf[0], cf[1])).toBeGreaterThan(0.5);
   });
 });
