@@ -245,7 +245,29 @@ export function assignWithLimits(
   const moveCostOf = stay && mc
     ? (i: number, from: number, to: number): number => (stay[i]! < 0 ? 0 : demand[i]! * mc[i]! * ((to !== stay[i] ? 1 : 0) - (from !== stay[i] ? 1 : 0)))
     : null;
-  const makeWhole = (f: ZoneFlow): { whole: WholeStops; assignment: Int32Array; split: number; repaired: number; breach: number; cost: number; moves: number; roundLoad: Float64Array } => {
+  interface Whole {
+    whole: WholeStops;
+    assignment: Int32Array;
+    split: number;
+    repaired: number;
+    breach: number;
+    cost: number;
+    moves: number;
+    roundLoad: Float64Array;
+  }
+  const fullBudget = (split: number): number => Math.max(100, 2 * k + split * 4);
+  /** Repairs (up to `budget` moves), improves, and counts cost, move cost and breach. */
+  const finish = (w: Whole, budget: number): Whole => {
+    const repaired = w.repaired + w.whole.repair(budget);
+    w.whole.improve(2);
+    let cost = 0;
+    for (const i of free) cost += demand[i]! * angle2(i, w.assignment[i]!);
+    // Choosing between outcomes counts the move cost too (the objective stays the distance one).
+    let moves = 0;
+    if (stay && mc) for (const i of free) if (stay[i]! >= 0 && w.assignment[i] !== stay[i]) moves += demand[i]! * mc[i]!;
+    return { ...w, repaired, breach: w.whole.totalBreach(), cost, moves };
+  };
+  const makeWhole = (f: ZoneFlow, quick = false): Whole => {
     const assignment = new Int32Array(n);
     for (let i = 0; i < n; i++) if (locked && locked[i]! >= 0) assignment[i] = locked[i]!;
     const split = f.round(assignment);
@@ -253,24 +275,26 @@ export function assignWithLimits(
     // Stops the flow does not carry: their cheapest zone at the prices.
     for (const i of free) if (supply && !(supply[i]! > 0)) assignment[i] = f.bestZone(i);
     const whole = new WholeStops(demand, cand, angle2, free, freeBounds, assignment, moveCostOf);
-    const repaired = whole.repair(Math.max(100, 2 * k + split * 4));
-    whole.improve(2);
-    let cost = 0;
-    for (const i of free) cost += demand[i]! * angle2(i, assignment[i]!);
-    // Choosing between outcomes counts the move cost too (the objective stays the distance one).
-    let moves = 0;
-    if (stay && mc) for (const i of free) if (stay[i]! >= 0 && assignment[i] !== stay[i]) moves += demand[i]! * mc[i]!;
-    return { whole, assignment, split, repaired, breach: whole.totalBreach(), cost, moves, roundLoad };
+    return finish({ whole, assignment, split, repaired: 0, breach: 0, cost: 0, moves: 0, roundLoad }, quick ? split + 10 : fullBudget(split));
   };
-  let chosen = makeWhole(flow);
-  if (chosen.breach > 0) {
+  const better = (a: Whole, b: Whole): boolean => a.breach < b.breach - 1e-12 || (a.breach <= b.breach && a.cost + a.moves < b.cost + b.moves);
+  /**
+   * The flow once more with every bound a rounding broke tightened by its breach, and, with
+   * `margins`, the bounds of every zone that held a split stop tightened by the largest of those
+   * stops (at most a quarter of the band, or 2% of a capacity), so that rounding the next LP's
+   * split stops, which are mostly in the same zones, keeps them within. Null when that flow is
+   * blocked.
+   */
+  const retryWith = (roundLoad: Float64Array, margins: boolean): Whole | null => {
     const tol = 1e-9 * (byDemand ? demandScale : stopScale);
     const adjUpper = Float64Array.from(upper);
     const adjLower = Float64Array.from(lower);
     for (let j = 0; j < k; j++) {
-      const l = chosen.roundLoad[j]!;
-      if (l > upper[j]! + tol) adjUpper[j]! -= l - upper[j]!;
-      if (l < lower[j]! - tol) adjLower[j]! += lower[j]! - l;
+      const l = roundLoad[j]!;
+      const band = lower[j]! > 0 && Number.isFinite(upper[j]!) ? 0.25 * (upper[j]! - lower[j]!) : 0.02 * (Number.isFinite(upper[j]!) ? upper[j]! : lower[j]!);
+      const m = margins ? Math.min(flow.largestSplit[j]!, band) : 0;
+      if (Number.isFinite(upper[j]!)) adjUpper[j] = Math.min(upper[j]! - m, l > upper[j]! + tol ? upper[j]! - (l - upper[j]!) : Infinity);
+      if (lower[j]! > 0) adjLower[j] = Math.max(lower[j]! + m, l < lower[j]! - tol ? lower[j]! + (lower[j]! - l) : -Infinity);
     }
     const carried = Int32Array.from(free.filter((i) => (byDemand ? demand[i]! > 0 : true)));
     const retry = new ZoneFlow(
@@ -288,9 +312,20 @@ export function assignWithLimits(
     const maxPaths = options.maxPaths ?? 50 * n + 10_000;
     retry.run(maxPaths);
     for (let round = 0; round < 8 && !retry.blocked && retry.settle() > 0; round++) retry.run(maxPaths);
-    if (!retry.blocked) {
-      const other = makeWhole(retry);
-      if (other.breach < chosen.breach - 1e-12 || (other.breach <= chosen.breach && other.cost + other.moves < chosen.cost + chosen.moves)) chosen = other;
+    return retry.blocked ? null : makeWhole(retry);
+  };
+  // The repair's cost per move grows with the zones' size: with large zones (over 1000 stops
+  // each), the first rounding gets a few moves only, and what they cannot mend goes first to the
+  // flow with tightened bounds; the first rounding's full repair is the fallback.
+  const large = free.length > 1000 * k;
+  const first = makeWhole(flow, large);
+  let chosen = first;
+  if (chosen.breach > 0) {
+    const other = retryWith(first.roundLoad, large);
+    if (other && better(other, chosen)) chosen = other;
+    if (large && chosen.breach > 0) {
+      const more = finish(first, fullBudget(first.split));
+      if (better(more, chosen)) chosen = more;
     }
   }
 

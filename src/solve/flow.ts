@@ -37,6 +37,8 @@ export class ZoneFlow {
   moved = 0;
   /** Set when the bounds cannot all be met (nothing can carry the remaining excess). */
   blocked = false;
+  /** Per zone, the largest supply of a stop that round() found split with a piece there. */
+  readonly largestSplit: Float64Array;
 
   // Pieces: stop, zone, fraction of the stop, next piece of the same stop, version for heaps.
   private pieceStop = new Int32Array(0);
@@ -84,6 +86,7 @@ export class ZoneFlow {
     }
     this.load = new Float64Array(k);
     this.out = new Float64Array(k);
+    this.largestSplit = new Float64Array(k);
     this.byPrice = new Int32Array(k);
     this.first = new Int32Array(supply.length).fill(-1);
     this.outgoing = Array.from({ length: k }, () => new Set<number>());
@@ -206,9 +209,19 @@ export class ZoneFlow {
     // zone gets): the zones are scanned in order of price up to that threshold.
     const bonus = this.stay ? this.stayBonus![i]! : 0;
     const order = this.byPrice;
+    const u = this.units;
+    const x = u[3 * i]!;
+    const y = u[3 * i + 1]!;
+    const z = u[3 * i + 2]!;
     for (let t = 0; t < this.k; t++) {
       const j = order[t]!;
-      if (!(this.price[j]! < bv - f * this.cand.farthest[i]! + bonus)) break;
+      const pj = this.price[j]!;
+      if (!(pj < bv - f * this.cand.farthest[i]! + bonus)) break;
+      // The squared chord is at most the squared angle: a cheap bound before the exact value.
+      const dx = x - this.centres[3 * j]!;
+      const dy = y - this.centres[3 * j + 1]!;
+      const dz = z - this.centres[3 * j + 2]!;
+      if (pj + f * (dx * dx + dy * dy + dz * dz) - (this.stay && this.stay[i] === j ? bonus : 0) >= bv) continue;
       const v = this.value(i, j);
       if (v < bv) {
         bv = v;
@@ -391,7 +404,7 @@ export class ZoneFlow {
     for (let step = 1; step <= maxSteps; step++) {
       let worst = -1;
       let worstAmount = tol;
-      const shed = true;
+      let shed = true;
       for (let j = 0; j < k; j++) {
         if (skip[j]) continue;
         const over = this.load[j]! - upper[j]!;
@@ -399,10 +412,15 @@ export class ZoneFlow {
         if (over > worstAmount) {
           worstAmount = over;
           worst = j;
+          shed = true;
         }
-        // Zones below their lower bound are left to the paths: lowering a price could make a
-        // far zone (not among a stop's candidates) cheaper than that stop's own, unseen here.
-        void under;
+        // Lowering a price can make the zone cheaper for a stop that does not list it: settle()
+        // finds such stops afterwards and adds the zone to their lists (adopt).
+        if (under > worstAmount) {
+          worstAmount = under;
+          worst = j;
+          shed = false;
+        }
       }
       if (worst < 0) return;
       if (!this.zoneStep(worst, shed, worstAmount)) skip[worst] = 1;
@@ -681,10 +699,13 @@ export class ZoneFlow {
       const bz = this.bestZone(i);
       const best = this.value(i, bz);
       const tol = 1e-12 * Math.max(1e-300, Math.abs(best)) + 1e-15;
+      let adopted = false;
       for (let piece = this.first[i]!; piece >= 0; ) {
         const next = this.pieceNext[piece]!;
         const z = this.pieceZone[piece]!;
         if (z !== bz && this.value(i, z) > best + tol) {
+          if (!adopted) this.adopt(i, bz);
+          adopted = true;
           this.transfer(piece, bz, this.pieceX[piece]!);
           count++;
         }
@@ -692,6 +713,35 @@ export class ZoneFlow {
       }
     }
     return count;
+  }
+
+  /**
+   * Makes zone j one of stop i's candidates when it is not: the stop's cheapest zone at the prices
+   * lies beyond its list, and the paths must be able to move it there and back. It takes the slot
+   * of the candidate of highest value at the prices that holds no piece of the stop (not always
+   * the farthest: two far zones would then take turns in one slot and the flow would never
+   * settle); `farthest` is lowered to the dropped zone's angle when that was nearer, so it stays
+   * a lower bound for every zone not listed.
+   */
+  private adopt(i: number, j: number): void {
+    const C = this.cand.c;
+    const base = i * C;
+    let slot = -1;
+    let worst = -Infinity;
+    for (let s = 0; s < C; s++) {
+      const z = this.cand.zone[base + s]!;
+      if (z === j) return;
+      if (this.pieceIn(i, z) >= 0) continue;
+      const v = this.candCost(i, s) + this.price[z]!;
+      if (v > worst) {
+        worst = v;
+        slot = s;
+      }
+    }
+    if (slot < 0) return;
+    this.cand.farthest[i] = Math.min(this.cand.farthest[i]!, this.cand.angle2[base + slot]!);
+    this.cand.zone[base + slot] = j;
+    this.cand.angle2[base + slot] = angle2To(this.units, i, this.centres, j);
   }
 
   /** Calls f(stop, zone, fraction) for every piece of every free stop. */
@@ -723,6 +773,10 @@ export class ZoneFlow {
         continue;
       }
       split++;
+      for (let piece = firstPiece; piece >= 0; piece = this.pieceNext[piece]!) {
+        const z = this.pieceZone[piece]!;
+        this.largestSplit[z] = Math.max(this.largestSplit[z]!, this.supply[i]!);
+      }
       let bestZone = -1;
       let bestBreach = Infinity;
       let bestCost = Infinity;

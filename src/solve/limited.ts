@@ -153,7 +153,7 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
   if (limited) {
     // Coarse to fine: merged copies of growing size (x5 each) up to a quarter of the stops, each
     // level starting from the last one's centres and prices, so that the full set needs only a
-    // few iterations. The smallest has 100 cells per zone (at least 20 000).
+    // few iterations. The smallest has 20 cells per zone (at least 4 000).
     if (levels.length > 0) {
       for (let level = 0; level < levels.length; level++) {
         const sample = coarseCopy(level);
@@ -172,7 +172,8 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
       }
     }
     const loose = prices ? null : looseBounds(units, demand, centres, bounds, locked);
-    const run = lpLloyd(units, demand, centres, bounds, locked, fixed, rule, maxIterations, prices, 'limits', prices ? SETTLED_AFTER_COARSE : SETTLED, loose);
+    // After the coarse levels, one iteration with a fall below SETTLED_AFTER_COARSE is enough.
+    const run = lpLloyd(units, demand, centres, bounds, locked, fixed, rule, maxIterations, prices, 'limits', prices ? SETTLED_AFTER_COARSE : SETTLED, loose, prices ? 1 : 2);
     let steps = 0;
     for (;;) {
       const s = run.next();
@@ -224,12 +225,13 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
 
 /**
  * Sizes (cells) of the coarse copies the limited loop runs on before every stop: from
- * max(20 000, 100 k) up by a factor of 5 while a level stays under a quarter of the stops; none
- * when `sampleStops` is 0 (no coarse start asked for).
+ * max(4 000, 20 k) up by a factor of 5 while a level stays under a quarter of the stops; none
+ * when `sampleStops` is 0 (no coarse start asked for). The smallest carries the continuation from
+ * the plain k-means centres, where most stops change zone: it costs the least there.
  */
 function coarseLevels(n: number, k: number, sampleStops: number): number[] {
   const levels: number[] = [];
-  if (sampleStops > 0) for (let size = Math.max(20_000, 100 * k); size * 4 <= n; size *= 5) levels.push(size);
+  if (sampleStops > 0) for (let size = Math.max(4_000, 20 * k); size * 4 <= n; size *= 5) levels.push(size);
   return levels;
 }
 
@@ -292,6 +294,8 @@ function* lpLloyd(
   phase: 'mean' | 'limits',
   settled = SETTLED,
   relaxFrom: ZoneBounds | null = null,
+  /** Iterations in a row with a fall below `settled` that count as settled. */
+  calmNeeded = 2,
 ): Generator<IterationRecord, { prices: Prices | null; converged: boolean }, void> {
   const n = demand.length;
   let prices = warm;
@@ -357,7 +361,7 @@ function* lpLloyd(
     last = objective;
     if (fall < settled && move < 1e-9) return { prices, converged: true };
     calm = fall < settled ? calm + 1 : 0;
-    if (calm >= 2) return { prices, converged: true };
+    if (calm >= calmNeeded) return { prices, converged: true };
   }
   return { prices, converged: false };
 }

@@ -203,6 +203,37 @@ describe('assignWithLimits against the LP optimum of glpk.js (GNU Linear Program
     expect(r.gap).toBeLessThan(1e-3);
   });
 
+  it('with 2 candidate zones per stop the LP is still exact: a cheaper zone beyond a stop\'s list is found and added to it (glpk.js)', () => {
+    const k = 6;
+    const s = towns(2000, 2006, true);
+    const centres = solveZones(s, { zones: k, seed: 1, restarts: 1 }).centres;
+    const { bounds } = zoneBounds({ balance: 0.04 }, k, s.demand, null);
+    const lp = solveLimitLp(s.units, s.demand, centres, bounds, null, { candidates: 2 });
+    const ref = glpkOptimum(s.units, s.demand, centres, bounds);
+    expect(ref.status).toBe(glpk.GLP_OPT);
+    expect(lp.blocked).toBe(false);
+    // Both within 1e-6 of glpk.js' optimum: the flow did not stop at its first candidate lists.
+    expect(rel(lp.lpObjectiveKm2, ref.z)).toBeLessThan(1e-6);
+    expect(rel(lp.lowerBoundKm2, ref.z)).toBeLessThan(1e-6);
+  });
+
+  it('large zones (over 1000 stops each): the whole-stop plan meets the band after the tightened second flow, the LP exact (glpk.js)', () => {
+    const k = 4;
+    const s = towns(6000, 6004, true);
+    const centres = solveZones(s, { zones: k, seed: 1, restarts: 1 }).centres;
+    const { bounds } = zoneBounds({ balance: 0.01 }, k, s.demand, null);
+    const r = assignWithLimits(s.units, s.demand, centres, bounds, null);
+    const ref = glpkOptimum(s.units, s.demand, centres, bounds);
+    expect(ref.status).toBe(glpk.GLP_OPT);
+    expect(rel(r.lpObjectiveKm2, ref.z)).toBeLessThan(1e-6);
+    expect(rel(r.lowerBoundKm2, ref.z)).toBeLessThan(1e-6);
+    expect(r.feasible).toBe(true);
+    expectWithin(s.demand, r, bounds);
+    expect(r.objectiveKm2).toBeGreaterThanOrEqual(ref.z * (1 - 1e-9));
+    // Tightening costs little: within 1% of the LP optimum (common practice, no source).
+    expect(r.gap).toBeLessThan(0.01);
+  });
+
   it('per-zone capacities with locked stops (locked x fixed in the LP)', () => {
     const k = 5;
     const s = towns(1500, 77, true);
