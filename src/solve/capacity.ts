@@ -280,19 +280,21 @@ export function assignWithLimits(
   const better = (a: Whole, b: Whole): boolean => a.breach < b.breach - 1e-12 || (a.breach <= b.breach && a.cost + a.moves < b.cost + b.moves);
   /**
    * The flow once more with every bound a rounding broke tightened by its breach, and, with
-   * `margins`, the bounds of every zone that held a split stop tightened by the largest of those
-   * stops (at most a quarter of the band, or 2% of a capacity), so that rounding the next LP's
-   * split stops, which are mostly in the same zones, keeps them within. Null when that flow is
-   * blocked.
+   * `margins`, every bound tightened by the largest stop the LP split in that zone, or a mean
+   * stop where none (at most a quarter of the band, or 2% of a capacity), so that rounding the
+   * next LP's split stops, which are mostly in the same zones, keeps them within and single moves
+   * find room. Null when that flow is blocked.
    */
   const retryWith = (roundLoad: Float64Array, margins: boolean): Whole | null => {
     const tol = 1e-9 * (byDemand ? demandScale : stopScale);
+    // Every zone gets at least a mean stop of room, so that single moves can mend what is left.
+    const meanSupply = byDemand ? (demandScale * k) / Math.max(1, free.length) : 1;
     const adjUpper = Float64Array.from(upper);
     const adjLower = Float64Array.from(lower);
     for (let j = 0; j < k; j++) {
       const l = roundLoad[j]!;
       const band = lower[j]! > 0 && Number.isFinite(upper[j]!) ? 0.25 * (upper[j]! - lower[j]!) : 0.02 * (Number.isFinite(upper[j]!) ? upper[j]! : lower[j]!);
-      const m = margins ? Math.min(flow.largestSplit[j]!, band) : 0;
+      const m = margins ? Math.min(Math.max(flow.largestSplit[j]!, meanSupply), band) : 0;
       if (Number.isFinite(upper[j]!)) adjUpper[j] = Math.min(upper[j]! - m, l > upper[j]! + tol ? upper[j]! - (l - upper[j]!) : Infinity);
       if (lower[j]! > 0) adjLower[j] = Math.max(lower[j]! + m, l < lower[j]! - tol ? lower[j]! + (lower[j]! - l) : -Infinity);
     }
@@ -315,14 +317,20 @@ export function assignWithLimits(
     return retry.blocked ? null : makeWhole(retry);
   };
   // The repair's cost per move grows with the zones' size: with large zones (over 1000 stops
-  // each), the first rounding gets a few moves only, and what they cannot mend goes first to the
-  // flow with tightened bounds; the first rounding's full repair is the fallback.
+  // each), the first rounding gets a few moves only. What the repair cannot mend goes to the flow
+  // with tightened bounds (with margins, then without); with large zones the first rounding's
+  // full repair is the last resort.
   const large = free.length > 1000 * k;
   const first = makeWhole(flow, large);
   let chosen = first;
   if (chosen.breach > 0) {
-    const other = retryWith(first.roundLoad, large);
+    const other = retryWith(first.roundLoad, true);
     if (other && better(other, chosen)) chosen = other;
+    // Margins can leave too little room in all (a capacity near the total demand): the breaches alone.
+    if (chosen.breach > 0) {
+      const plain = retryWith(first.roundLoad, false);
+      if (plain && better(plain, chosen)) chosen = plain;
+    }
     if (large && chosen.breach > 0) {
       const more = finish(first, fullBudget(first.split));
       if (better(more, chosen)) chosen = more;
