@@ -404,7 +404,7 @@ export class ZoneFlow {
     for (let step = 1; step <= maxSteps; step++) {
       let worst = -1;
       let worstAmount = tol;
-      let shed = true;
+      const shed = true;
       for (let j = 0; j < k; j++) {
         if (skip[j]) continue;
         const over = this.load[j]! - upper[j]!;
@@ -412,15 +412,10 @@ export class ZoneFlow {
         if (over > worstAmount) {
           worstAmount = over;
           worst = j;
-          shed = true;
         }
-        // Lowering a price can make the zone cheaper for a stop that does not list it: settle()
-        // finds such stops afterwards and adds the zone to their lists (adopt).
-        if (under > worstAmount) {
-          worstAmount = under;
-          worst = j;
-          shed = false;
-        }
+        // Zones below their lower bound are left to the paths (price steps down for them made a
+        // rebalance, with its stay bonus, run without end).
+        void under;
       }
       if (worst < 0) return;
       if (!this.zoneStep(worst, shed, worstAmount)) skip[worst] = 1;
@@ -457,9 +452,11 @@ export class ZoneFlow {
             bz = l;
           }
         }
-        if (bz < 0) continue;
+        const d = Math.max(0, bv - this.value(i, j));
+        // A stop held in its zone by an unbounded stay bonus has no finite price to move at.
+        if (bz < 0 || !Number.isFinite(d)) continue;
         pieces.push(piece);
-        delta.push(Math.max(0, bv - this.value(i, j)));
+        delta.push(d);
         amount.push(this.pieceX[piece]! * this.supply[i]!);
         target.push(bz);
       }
@@ -470,8 +467,10 @@ export class ZoneFlow {
         for (let piece = this.first[i]!; piece >= 0; piece = this.pieceNext[piece]!) {
           const from = this.pieceZone[piece]!;
           if (from === j) continue;
+          const d = Math.max(0, there - this.value(i, from));
+          if (!Number.isFinite(d)) continue;
           pieces.push(piece);
-          delta.push(Math.max(0, there - this.value(i, from)));
+          delta.push(d);
           amount.push(this.pieceX[piece]! * this.supply[i]!);
           target.push(j);
         }

@@ -441,3 +441,34 @@ describe('comparePlans', () => {
     }
   });
 });
+
+describe('rebalancePlan on the demo stops', () => {
+  it('the demo plan (12 zones, balance 10%) onto demand changed on every 20th stop and 5 new stops, within 60 moved stops, finishes feasible', async () => {
+    // Regression: price steps down for zones below their band made this search run without end.
+    const { readStopsFile } = await import('../../src/io/read.js');
+    const demoFile = new URL('../../demo-data/tallowmere-stops.csv', import.meta.url).pathname;
+    const stops = readStopsFile(demoFile, { demand: 'parcels' });
+    const old = await solveStops(stops, { zones: 12, seed: 1, threads: 1, balance: 0.1 });
+    const lonLat = Float64Array.from(stops.lonLat);
+    const demand = Float64Array.from(stops.demand, (w, i) => (i % 20 === 19 ? w + 3 : w));
+    const ids = [...stops.ids];
+    const extra = 5;
+    const next: StopSet = {
+      ...stops,
+      ids: [...ids, ...Array.from({ length: extra }, (_, t) => `NEW-${t}`)],
+      lonLat: Float64Array.from([...lonLat, ...Array.from({ length: extra }, () => [lonLat[0]!, lonLat[1]!]).flat()]),
+      units: Float64Array.from([...stops.units, ...Array.from({ length: extra }, () => [stops.units[0]!, stops.units[1]!, stops.units[2]!]).flat()]),
+      demand: Float64Array.from([...demand, ...Array.from({ length: extra }, () => stops.demand[0]!)]),
+      rows: Int32Array.from([...stops.rows, ...Array.from({ length: extra }, (_, t) => stops.ids.length + 2 + t)]),
+    };
+    const t0 = performance.now();
+    const { report, solved } = rebalancePlan({ stops, plan: old.plan }, next, { budget: { stops: 60 } });
+    expect(performance.now() - t0).toBeLessThan(60_000);
+    expect(solved.plan.assignment).toHaveLength(next.ids.length);
+    // Within the budget: at most 60 of the stops both plans have changed zone.
+    let moved = 0;
+    for (let i = 0; i < stops.ids.length; i++) if (solved.plan.assignment[i] !== old.plan.assignment[i]) moved++;
+    expect(moved).toBeLessThanOrEqual(60);
+    expect(report.added).toBe(extra);
+  }, 120_000);
+});
