@@ -1,11 +1,18 @@
 /**
  * The map: offline basemap (or an online tile layer from the settings), zone polygons, the
  * stops canvas, zone centres sized by workload with a ring at the zone's 90th-percentile
- * distance and a label, a legend and a scale bar.
+ * distance and a label, a legend and a scale bar. The zone polygons follow the plan: newer ones
+ * drawn on the main side after an edit replace the older ones when they are ready.
+ *
+ * Test hooks: #map[data-boundaries-version] (the plan state the polygons drawn show),
+ * #map[data-boundaries-pending="1"] while newer ones are on the way, #map[data-boundaries-zones].
  */
 import L from 'leaflet';
+import type { Api, BoundariesStamp, PlanView } from '../src/api/app-types.js';
 import type { ZoneRow } from '../src/api/types.js';
+import { createHttpApi } from './api-client.js';
 import { OCEAN_COLOUR, offlineBasemap } from './basemap.js';
+import { BoundariesFollower } from './boundaries-follow.js';
 import { zoneColour } from './palette.js';
 import { StopsLayer, type StopsData } from './stops-layer.js';
 import { fmt } from './format.js';
@@ -15,6 +22,14 @@ export interface MapCallbacks {
   onCentreDrop(zone: number, lon: number, lat: number): void;
   /** A centre was clicked, or chosen on its focused marker with Enter or C. */
   onCentreSelect(zone: number): void;
+  /** Asks for a plan again, for its newer polygons (default: the window's Api). */
+  planView?(name: string): Promise<PlanView>;
+}
+
+/** The Api the window uses (the desktop preload's, else browser mode's with the page's token). */
+function windowApi(): Api {
+  const desktop = (window as unknown as { zoneplan?: Api }).zoneplan;
+  return desktop ?? createHttpApi(new URLSearchParams(location.search).get('token') ?? '');
 }
 
 export class MapView {
@@ -32,8 +47,15 @@ export class MapView {
   private readonly markers = new Map<number, L.Marker>();
   /** The centre being moved from the keyboard, where it is shown. */
   private editing: { zone: number; lon: number; lat: number } | null = null;
+  private readonly follower: BoundariesFollower;
 
-  constructor(el: HTMLElement, private readonly cb: MapCallbacks) {
+  constructor(private readonly el: HTMLElement, private readonly cb: MapCallbacks) {
+    const planView = cb.planView ? (name: string) => cb.planView!(name) : (name: string) => windowApi().plan(name);
+    this.follower = new BoundariesFollower(
+      planView,
+      (fc, stamp) => this.drawBoundaries(fc, stamp),
+      (waiting) => (this.el.dataset['boundariesPending'] = waiting ? '1' : '0'),
+    );
     el.style.background = OCEAN_COLOUR;
     this.map = L.map(el, { preferCanvas: true, worldCopyJump: false, keyboard: true, zoomSnap: 0.25 }).setView([20, 0], 2);
     this.vectorRenderer = L.canvas({ padding: 0.2 });
@@ -73,7 +95,19 @@ export class MapView {
     this.stops.setData(data);
   }
 
+  /**
+   * The zone polygons of the plan view shown. Polygons older than those on the map are not drawn
+   * over them; while newer ones are being drawn on the main side, they are fetched when ready.
+   */
   setBoundaries(fc: unknown | null): void {
+    this.follower.offer(fc);
+  }
+
+  private drawBoundaries(fc: unknown | null, stamp: BoundariesStamp | null): void {
+    if (stamp) this.el.dataset['boundariesVersion'] = String(stamp.boundariesVersion);
+    else delete this.el.dataset['boundariesVersion'];
+    const features = (fc as { features?: unknown } | null)?.features;
+    this.el.dataset['boundariesZones'] = String(Array.isArray(features) ? features.length : 0);
     if (this.polygons) this.polygons.remove();
     this.polygons = null;
     if (!fc || typeof fc !== 'object') return;

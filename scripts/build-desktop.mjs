@@ -1,6 +1,7 @@
 // Builds the desktop shell into dist/main (Electron main as ESM, the sandboxed preload as one
-// CommonJS file that only requires electron) and the plan worker beside each bundle that starts
-// plan runs (dist/main for the desktop app, dist/node for `zoneplan serve`). Run by build.mjs.
+// CommonJS file that only requires electron) and the app's workers (plan runs, sweeps, zone
+// polygons redrawn after edits) beside each bundle that starts them (dist/main for the desktop
+// app, dist/node for `zoneplan serve`). Run by build.mjs.
 import * as esbuild from 'esbuild';
 import { readFileSync, rmSync } from 'node:fs';
 
@@ -26,7 +27,9 @@ await Promise.all([
   esbuild.build({ ...node, entryPoints: ['src/desktop/preload.ts'], outfile: 'dist/main/preload.cjs', format: 'cjs', external: ['electron'], sourcemap: 'inline' }),
   // The desktop app's workers carry their packages inside (no node_modules lookups), so that they
   // also run unpacked from the app archive (electron-builder.yml asarUnpack).
-  esbuild.build({ ...selfContained, entryPoints: ['src/run/plan-worker.ts'], outfile: 'dist/main/plan-worker.mjs' }),
-  esbuild.build({ ...node, entryPoints: ['src/run/plan-worker.ts'], outfile: 'dist/node/plan-worker.mjs', format: 'esm', sourcemap: true }),
+  ...['plan-worker', 'sweep-worker', 'boundaries-worker'].flatMap((name) => [
+    esbuild.build({ ...selfContained, entryPoints: [`src/run/${name}.ts`], outfile: `dist/main/${name}.mjs` }),
+    esbuild.build({ ...node, entryPoints: [`src/run/${name}.ts`], outfile: `dist/node/${name}.mjs`, format: 'esm', sourcemap: true }),
+  ]),
   esbuild.build({ ...selfContained, entryPoints: ['src/run/start-worker.ts'], outfile: 'dist/main/start-worker.mjs' }),
 ]);

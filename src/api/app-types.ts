@@ -54,8 +54,18 @@ export interface PlanView {
   readonly info: PlanInfo;
   readonly zones: readonly ZoneRow[];
   readonly limits: LimitsOutcome | null;
-  /** Zone polygons as a GeoJSON FeatureCollection (properties: zone, name, ...), or null. */
+  /**
+   * Zone polygons as a GeoJSON FeatureCollection (properties: zone, name, ...), or null. While
+   * `boundariesPending`, those of an earlier state of the plan. The collection carries a
+   * BoundariesStamp as its foreign member "zoneplan".
+   */
   readonly boundaries: unknown | null;
+  /** Which state of the plan this is: a number that grows with every change of it in this window (edit, undo, redo). */
+  readonly version: number;
+  /** Which state the polygons show: `version` when they are up to date, lower when older (0: the plan as solved). */
+  readonly boundariesVersion: number;
+  /** The polygons of this state are being drawn (a large plan after an edit): the plan asked for again has them when ready. */
+  readonly boundariesPending: boolean;
   readonly objectiveKm2: number;
   readonly maxMinRatio: number | null;
   readonly demandCv: number;
@@ -64,6 +74,18 @@ export interface PlanView {
   /** Undo and redo are possible. */
   readonly canUndo: boolean;
   readonly canRedo: boolean;
+}
+
+/**
+ * What the polygons of a PlanView show, carried by its FeatureCollection as the foreign member
+ * "zoneplan" (RFC 7946 section 6.1), so that the map, given the polygons alone, can tell newer
+ * ones from older and knows when newer ones are on the way.
+ */
+export interface BoundariesStamp {
+  readonly plan: string;
+  readonly version: number;
+  readonly boundariesVersion: number;
+  readonly pending: boolean;
 }
 
 /**
@@ -115,6 +137,19 @@ export interface RunStatus {
   readonly message: string | null;
   /** The plan name it is saved under when done. */
   readonly planName: string;
+}
+
+/** A sweep under way: every number of zones in a range planned in a worker thread, one row each. */
+export interface SweepStatus {
+  readonly id: string;
+  readonly state: RunState;
+  /** How far the whole range is, 0..1. */
+  readonly fraction: number;
+  readonly from: number;
+  readonly to: number;
+  /** The rows done so far, in order of the number of zones, each one whole. */
+  readonly rows: readonly SweepRow[];
+  readonly message: string | null;
 }
 
 /**

@@ -1,7 +1,7 @@
 import { DISTANCE_NOTE } from '../io/plan-geojson.js';
 import { EARTH_RADIUS_KM } from '../geo/constants.js';
 import { angleBetween } from '../geo/distance.js';
-import type { PlanArrays, PlanInfo, PlanView, StopDetails } from './app-types.js';
+import type { BoundariesStamp, PlanArrays, PlanInfo, PlanView, StopDetails } from './app-types.js';
 import type { EditedPlan } from './edited-plan.js';
 import { limitsOutcome, zoneRows } from './plan-file.js';
 import { workloadSpread } from './sweep.js';
@@ -36,7 +36,22 @@ function rows(p: EditedPlan): ZoneRow[] {
   });
 }
 
-export function planView(p: EditedPlan, boundaries: unknown, notes: readonly string[], canUndo: boolean, canRedo: boolean): PlanView {
+/** Which state of the plan a view is, which state its polygons show, and whether newer ones are being drawn. */
+export interface ViewState {
+  readonly version: number;
+  readonly boundariesVersion: number;
+  readonly pending: boolean;
+}
+
+/** The polygons stamped with what they show (a new collection: the cached one is shared between views). */
+function stamped(boundaries: unknown, plan: string, s: ViewState): unknown {
+  const stamp: BoundariesStamp = { plan, version: s.version, boundariesVersion: s.boundariesVersion, pending: s.pending };
+  if (boundaries && typeof boundaries === 'object') return { ...boundaries, zoneplan: stamp };
+  // None to show yet, but on the way: an empty collection tells the map to ask again.
+  return s.pending ? { type: 'FeatureCollection', features: [], zoneplan: stamp } : null;
+}
+
+export function planView(p: EditedPlan, boundaries: unknown, notes: readonly string[], canUndo: boolean, canRedo: boolean, state: ViewState): PlanView {
   const zones = rows(p);
   const spread = workloadSpread(zones.map((z) => z.demand));
   const limits = limitsOutcome(p.plan);
@@ -46,7 +61,10 @@ export function planView(p: EditedPlan, boundaries: unknown, notes: readonly str
     info: planInfo(p),
     zones,
     limits,
-    boundaries,
+    boundaries: stamped(boundaries, p.loaded.info.name, state),
+    version: state.version,
+    boundariesVersion: state.boundariesVersion,
+    boundariesPending: state.pending,
     objectiveKm2: p.figures.objectiveKm2,
     maxMinRatio: Number.isFinite(spread.maxMinRatio) ? spread.maxMinRatio : null,
     demandCv: spread.cv,

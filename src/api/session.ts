@@ -7,6 +7,8 @@ import { layerGeoJsonChunks, planGeoJsonChunks } from '../io/plan-geojson.js';
 import { ImportError } from '../io/problems.js';
 import { lonLatFromVector } from '../geo/unit.js';
 import { startPlanRun, type PlanRunHandle, type WorkerFactory } from '../run/plan-run.js';
+import type { BoundariesWorkerFactory } from '../run/boundaries-run.js';
+import type { SweepWorkerFactory } from '../run/sweep-run.js';
 import type {
   Api,
   ExportRequest,
@@ -22,6 +24,7 @@ import type {
   RunStatus,
   StopDetails,
   StopSetInfo,
+  SweepStatus,
 } from './app-types.js';
 import { boundariesGeoJson } from './boundaries-json.js';
 import { applyEdits, type EditedPlan } from './edited-plan.js';
@@ -30,10 +33,12 @@ import { planArrays, planView, stopDetails } from './plan-view.js';
 import { createProject, openProject, type LoadedPlan, type ProjectHandle } from './project.js';
 import { comparePlans, rebalancePlan } from './rebalance.js';
 import { checkReport } from './report.js';
-import { sweepStops } from './sweep.js';
+import { SweepRuns } from './sweep-runs.js';
 import { readStopsText } from './text-import.js';
 import { readStopsBytes } from '../io/read.js';
 import { withDepotsText } from './depots-text.js';
+import { readDepotsFile } from '../io/zone-files.js';
+import { ZoneDrawings, type PlanState } from './zone-drawings.js';
 import type { PlanComparison, PlanEditInput, PlanSettingsInput, ProjectPlanRow, RebalanceReport, StopFileOptions, SweepRow } from './types.js';
 import { UndoStacks, type EditStep } from './undo-stack.js';
 import { AppError } from './wire-error.js';
@@ -42,8 +47,11 @@ export interface SessionOptions {
   readonly mode: 'desktop' | 'browser';
   /** How plan runs get their worker thread (default: the plan worker beside the app). */
   readonly workerFactory?: WorkerFactory;
-  /** Plans with more stops keep their saved boundaries after edits (redrawing them is slow). */
+  /** Plans with more stops have their polygons redrawn after edits in a worker thread (default 20,000). */
   readonly redrawBoundariesUpTo?: number;
+  /** How sweeps and the redrawing of polygons get their worker threads (default: the workers beside the app). */
+  readonly sweepWorkerFactory?: SweepWorkerFactory;
+  readonly boundariesWorkerFactory?: BoundariesWorkerFactory;
 }
 
 interface RunRecord {
@@ -53,10 +61,7 @@ interface RunRecord {
   readonly ended: Promise<void>;
 }
 
-interface CachedPlan {
-  readonly plan: EditedPlan;
-  boundaries?: { geojson: unknown; notes: string[] };
-}
+type CachedPlan = PlanState;
 
 /**
  * What one map window works with: one open project, its plan runs in worker threads, and the
@@ -67,12 +72,19 @@ export class AppSession implements Api {
   private readonly runs = new Map<string, RunRecord>();
   private readonly history = new UndoStacks();
   private readonly plans = new Map<string, CachedPlan>();
+  /** Numbers the states of plans (every edit, undo and redo makes a new one), never reused in this window. */
+  private version = 0;
+  private readonly drawings: ZoneDrawings;
+  private readonly sweeps: SweepRuns;
   private readonly loaded = new Map<string, LoadedPlan>();
   private readonly stopSetFacts = new Map<number, { totalDemand: number; bbox: [number, number, number, number] }>();
   /** The plan the window looked at last (the menu's Export uses it). */
   lastPlan: string | null = null;
 
-  constructor(private readonly options: SessionOptions) {}
+  constructor(private readonly options: SessionOptions) {
+    this.drawings = new ZoneDrawings(options.boundariesWorkerFactory, options.redrawBoundariesUpTo);
+    this.sweeps = new SweepRuns(options.sweepWorkerFactory);
+  }
 
   // ---- the project
 
@@ -97,6 +109,7 @@ export class AppSession implements Api {
   /** Cancels runs under way and closes the project. */
   async close(): Promise<void> {
     await Promise.all([...this.runs.values()].filter((r) => r.status.state === 'running').map((r) => this.cancelRun(r.status.id)));
+    await Promise.all([this.sweeps.cancelAll(), this.drawings.clear()]);
     this.plans.clear();
     this.loaded.clear();
     this.history.clear();
@@ -237,26 +250,17 @@ export class AppSession implements Api {
         loaded = await h.loadPlan(key);
         this.loaded.set(key, loaded);
       }
-      c = { plan: applyEdits(loaded, h.store.listEdits(key)) };
+      c = { plan: applyEdits(loaded, h.store.listEdits(key)), version: ++this.version };
       this.plans.set(key, c);
     }
     this.lastPlan = key;
     return c;
   }
 
-  private boundariesOf(c: CachedPlan): { geojson: unknown; notes: string[] } {
-    if (c.boundaries) return c.boundaries;
-    const p = c.plan;
-    if (p.edits === 0) c.boundaries = { geojson: p.loaded.boundaries ?? null, notes: [] };
-    else if (p.stops.ids.length <= (this.options.redrawBoundariesUpTo ?? 20_000)) c.boundaries = boundariesGeoJson(p);
-    else c.boundaries = { geojson: p.loaded.boundaries ?? null, notes: ['the zone polygons show the plan as solved; the manual edits since are in the stops and the zone table'] };
-    return c.boundaries;
-  }
-
   private view(c: CachedPlan): PlanView {
-    const b = this.boundariesOf(c);
     const name = c.plan.loaded.info.name;
-    return planView(c.plan, b.geojson, b.notes, this.history.canUndo(name), this.history.canRedo(name));
+    const { drawn, pending } = this.drawings.of(name, c);
+    return planView(c.plan, drawn.geojson, drawn.notes, this.history.canUndo(name), this.history.canRedo(name), { version: c.version, boundariesVersion: drawn.version, pending });
   }
 
   async plan(name: string): Promise<PlanView> {
@@ -357,6 +361,7 @@ export class AppSession implements Api {
     const row = await h.renamePlan(old, to);
     this.plans.delete(old);
     this.loaded.delete(old);
+    this.drawings.rename(old, row.name);
     this.history.rename(old, row.name);
     if (this.lastPlan === old) this.lastPlan = row.name;
     return this.project();
@@ -387,15 +392,34 @@ export class AppSession implements Api {
     return { view: await this.plan(name), report };
   }
 
-  async sweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<readonly SweepRow[]> {
+  /**
+   * Starts a sweep over [from, to] zones in a worker thread; `onChange` hears each row as its
+   * number of zones is done (and every whole per cent). A bad depots file stops it here.
+   */
+  async startSweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>, onChange?: (s: SweepStatus) => void): Promise<SweepStatus> {
     const stops = this.need().store.loadStopSet(stopSetId);
+    if (settings.depotsFile !== undefined && settings.depots !== undefined) throw new AppError('usage', 'give the fixed depots as a file or as its text, not both');
+    if (settings.depotsFile !== undefined) readDepotsFile(settings.depotsFile);
     const { request, cleanup } = withDepotsText(planSettings({ ...settings, zones: from }), settings.depots);
     const { zones: _zones, ...rest } = request;
-    try {
-      return await sweepStops(stops, rest, { from, to });
-    } finally {
-      cleanup();
-    }
+    return this.sweeps.start(stops, { ...rest, threads: 1 }, from, to, cleanup, onChange);
+  }
+
+  async sweepStatus(id: string): Promise<SweepStatus> {
+    return this.sweeps.status(id);
+  }
+
+  /** Stops a sweep at once; the rows done before stay, nothing is saved. */
+  async cancelSweep(id: string): Promise<SweepStatus> {
+    return this.sweeps.cancel(id);
+  }
+
+  async waitForSweep(id: string): Promise<SweepStatus> {
+    return this.sweeps.wait(id);
+  }
+
+  async sweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<readonly SweepRow[]> {
+    return this.sweeps.rows((await this.startSweep(stopSetId, from, to, settings)).id);
   }
 
   async exportPlan(request: ExportRequest): Promise<ExportResult> {

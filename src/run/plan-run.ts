@@ -1,10 +1,8 @@
-import { existsSync } from 'node:fs';
-import path from 'node:path';
-import { fileURLToPath } from 'node:url';
-import { Worker } from 'node:worker_threads';
+import type { Worker } from 'node:worker_threads';
 import type { SolvedPlan } from '../api/plan-file.js';
 import type { WireError } from '../api/wire.js';
 import type { PlanJob, PlanWorkerMessage } from './plan-worker.js';
+import { workerBeside } from './worker-run.js';
 
 /** How a plan run in its worker thread ended. */
 export type PlanRunOutcome =
@@ -21,19 +19,7 @@ export interface PlanRunHandle {
 export type WorkerFactory = (job: PlanJob) => Worker;
 
 /** The plan worker beside this module: the bundled .mjs when built, the source through tsx otherwise. */
-export const planWorker: WorkerFactory = (job) => {
-  const here = import.meta.url;
-  if (here.endsWith('.ts')) return new Worker(new URL('./plan-worker-dev.mjs', here), { workerData: job });
-  return new Worker(unpacked(fileURLToPath(new URL('./plan-worker.mjs', here))), { workerData: job });
-};
-
-/** In the packaged desktop app the worker is unpacked beside the app archive (electron-builder.yml). */
-function unpacked(file: string): string {
-  const marker = `${path.sep}app.asar${path.sep}`;
-  if (!file.includes(marker)) return file;
-  const outside = file.replace(marker, `${path.sep}app.asar.unpacked${path.sep}`);
-  return existsSync(outside) ? outside : file;
-}
+export const planWorker: WorkerFactory = (job) => workerBeside(import.meta.url, 'plan-worker', job);
 
 /**
  * Runs one plan in a worker thread so that the window (and the local server) stay responsive.
