@@ -326,8 +326,9 @@ export function assignWithLimits(
   if (chosen.breach > 0) {
     const other = retryWith(first.roundLoad, true);
     if (other && better(other, chosen)) chosen = other;
-    // Margins can leave too little room in all (a capacity near the total demand): the breaches alone.
-    if (chosen.breach > 0) {
+    // Margins can leave too little room in all (a capacity near the total demand), and cost more
+    // than the breaches alone where those suffice: with smaller zones both are tried.
+    if (chosen.breach > 0 || !large) {
       const plain = retryWith(first.roundLoad, false);
       if (plain && better(plain, chosen)) chosen = plain;
     }
