@@ -5,10 +5,9 @@
  * (standard: relative URLs and web storage work; secure: a secure context; supportFetchAPI), and
  * the handler answers only files inside the renderer folder, with their MIME type and the CSP.
  */
-import { realpathSync, statSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
-import path from 'node:path';
 import { APP_CSP } from '../api/content-policy.js';
+import { assetType, resolveAsset } from '../util/asset-files.js';
 import type { ProtocolLike, SchemePrivilegesLike } from './electron-like.js';
 
 export const APP_SCHEME = 'zoneplan-app';
@@ -17,20 +16,6 @@ export const APP_ORIGIN = `${APP_SCHEME}://app`;
 export const APP_INDEX_URL = `${APP_ORIGIN}/index.html`;
 
 export const APP_SCHEME_PRIVILEGES: SchemePrivilegesLike = { standard: true, secure: true, supportFetchAPI: true };
-
-const TYPES: Record<string, string> = {
-  '.html': 'text/html; charset=utf-8',
-  '.js': 'text/javascript; charset=utf-8',
-  '.mjs': 'text/javascript; charset=utf-8',
-  '.css': 'text/css; charset=utf-8',
-  '.json': 'application/json; charset=utf-8',
-  '.map': 'application/json; charset=utf-8',
-  '.png': 'image/png',
-  '.svg': 'image/svg+xml',
-  '.ico': 'image/x-icon',
-  '.woff2': 'font/woff2',
-  '.txt': 'text/plain; charset=utf-8',
-};
 
 /** Must run before the app is ready (Electron reads privileged schemes once, at start). */
 export function registerAppScheme(protocol: Pick<ProtocolLike, 'registerSchemesAsPrivileged'>): void {
@@ -44,37 +29,7 @@ export function registerAppScheme(protocol: Pick<ProtocolLike, 'registerSchemesA
  */
 export function resolveAppFile(root: string, url: string): { file: string } | { status: 400 | 403 | 404 } {
   if (!url.startsWith(`${APP_ORIGIN}/`)) return { status: 404 };
-  const raw = url.slice(APP_ORIGIN.length).split(/[?#]/)[0]!;
-  if (/%2f|%5c|%00|%2e/i.test(raw) || raw.includes('\\') || raw.includes('\0')) return { status: 403 };
-  let decoded: string;
-  try {
-    decoded = decodeURIComponent(raw);
-  } catch {
-    return { status: 400 };
-  }
-  if (decoded.includes('\0') || decoded.includes('\\')) return { status: 403 };
-  const parts = decoded.split('/').filter((p) => p.length > 0);
-  if (parts.some((p) => p === '..' || p === '.' || /^[a-z]:/i.test(p))) return { status: 403 };
-  if (parts.length === 0) parts.push('index.html');
-  if (parts.some((p) => p.startsWith('.'))) return { status: 404 };
-  let base: string;
-  try {
-    base = realpathSync(root);
-  } catch {
-    return { status: 404 };
-  }
-  const file = path.resolve(base, ...parts);
-  if (!file.startsWith(base + path.sep)) return { status: 403 };
-  let real: string;
-  try {
-    real = realpathSync(file);
-  } catch {
-    return { status: 404 };
-  }
-  // A link inside the folder that points out of it is refused too.
-  if (!real.startsWith(base + path.sep)) return { status: 403 };
-  if (!statSync(real).isFile()) return { status: 404 };
-  return { file: real };
+  return resolveAsset(root, url.slice(APP_ORIGIN.length).split(/[?#]/)[0]!);
 }
 
 /** Headers on every answer of the app scheme. */
@@ -94,7 +49,7 @@ export async function appResponse(root: string, request: { readonly url: string;
   const r = resolveAppFile(root, request.url);
   if (!('file' in r)) return refusal(r.status);
   const body = await readFile(r.file);
-  return new Response(request.method === 'HEAD' ? null : body, { status: 200, headers: headers(TYPES[path.extname(r.file).toLowerCase()] ?? 'application/octet-stream') });
+  return new Response(request.method === 'HEAD' ? null : body, { status: 200, headers: headers(assetType(r.file)) });
 }
 
 /** Serves the renderer folder on the app scheme (after the app is ready). */

@@ -1,55 +1,9 @@
-import { existsSync, readFileSync, realpathSync, statSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
 import type { ServerResponse } from 'node:http';
-import path from 'node:path';
+import { assetType, resolveAsset } from '../util/asset-files.js';
 import { sendText } from './headers.js';
 
-const TYPES: Record<string, string> = {
-  '.html': 'text/html; charset=utf-8',
-  '.js': 'text/javascript; charset=utf-8',
-  '.mjs': 'text/javascript; charset=utf-8',
-  '.css': 'text/css; charset=utf-8',
-  '.json': 'application/json; charset=utf-8',
-  '.map': 'application/json; charset=utf-8',
-  '.png': 'image/png',
-  '.svg': 'image/svg+xml',
-  '.ico': 'image/x-icon',
-  '.woff2': 'font/woff2',
-  '.txt': 'text/plain; charset=utf-8',
-};
-
-/**
- * The file under `root` that a URL path names, or why not: 403 for anything that tries to leave
- * the folder (.., encoded slashes or dots, backslashes, NUL, absolute or drive paths), 404 for a
- * file that is not there.
- */
-export function resolveAsset(root: string, urlPath: string): { file: string } | { status: 400 | 403 | 404 } {
-  if (/%2f|%5c|%00|%2e/i.test(urlPath) || urlPath.includes('\\') || urlPath.includes('\0')) return { status: 403 };
-  let decoded: string;
-  try {
-    decoded = decodeURIComponent(urlPath);
-  } catch {
-    return { status: 400 };
-  }
-  if (decoded.includes('\0') || decoded.includes('\\')) return { status: 403 };
-  const parts = decoded.split('/').filter((p) => p.length > 0);
-  if (parts.some((p) => p === '..' || p === '.' || /^[a-z]:/i.test(p))) return { status: 403 };
-  if (parts.length === 0) parts.push('index.html');
-  if (parts.some((p) => p.startsWith('.'))) return { status: 404 };
-  let base: string;
-  try {
-    base = realpathSync(root);
-  } catch {
-    return { status: 404 };
-  }
-  const file = path.resolve(base, ...parts);
-  if (!file.startsWith(base + path.sep)) return { status: 403 };
-  if (!existsSync(file)) return { status: 404 };
-  // A link inside the folder that points out of it is refused too.
-  const real = realpathSync(file);
-  if (!real.startsWith(base + path.sep)) return { status: 403 };
-  if (!statSync(real).isFile()) return { status: 404 };
-  return { file: real };
-}
+export { resolveAsset };
 
 export function serveAsset(res: ServerResponse, root: string, urlPath: string, head: boolean): void {
   const r = resolveAsset(root, urlPath);
@@ -58,6 +12,6 @@ export function serveAsset(res: ServerResponse, root: string, urlPath: string, h
     return;
   }
   const body = readFileSync(r.file);
-  res.writeHead(200, { 'Content-Type': TYPES[path.extname(r.file).toLowerCase()] ?? 'application/octet-stream', 'Content-Length': body.length, 'Cache-Control': 'no-cache' });
+  res.writeHead(200, { 'Content-Type': assetType(r.file), 'Content-Length': body.length, 'Cache-Control': 'no-cache' });
   res.end(head ? undefined : body);
 }
