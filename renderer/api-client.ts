@@ -80,6 +80,9 @@ export function createHttpApi(token: string, base = ''): Api {
     compare: c('compare'),
     rebalance: c('rebalance'),
     sweep: c('sweep'),
+    startSweep: c('startSweep'),
+    sweepStatus: c('sweepStatus'),
+    cancelSweep: c('cancelSweep'),
     exportPlan: c('exportPlan'),
   } as Api;
 }

@@ -5,13 +5,13 @@
  * 90th-percentile spread ring, from the stop arrays).
  *
  * Test hooks are data attributes only: body[data-ready="1"] once the first plan is drawn,
- * #run-progress[data-run-state], body[data-plan-name], #map[data-stop-count], #map[data-draw-ms],
+ * #run-progress[data-run-state], #sweep-progress[data-run-state|data-rows], body[data-plan-name], #map[data-stop-count], #map[data-draw-ms],
  * #centre-edit[data-zone|data-lon|data-lat|data-step-m|data-fixed] while a centre is moved by keyboard.
  */
 import 'leaflet/dist/leaflet.css';
 import './style.css';
-import type { Api, PlanArrays, PlanView, ProjectInfo, RunSettings, RunStatus, StopDetails } from '../src/api/app-types.js';
-import type { InputProblem, PlanComparison, ZoneRow } from '../src/api/types.js';
+import type { Api, PlanArrays, PlanView, ProjectInfo, RunSettings, RunStatus, StopDetails, SweepStatus } from '../src/api/app-types.js';
+import type { InputProblem, PlanComparison, SweepRow, ZoneRow } from '../src/api/types.js';
 import type { AppEvents } from '../src/desktop/channels.js';
 import { createHttpApi, errorMessage } from './api-client.js';
 import { CentreEditor } from './centre-edit.js';
@@ -373,28 +373,85 @@ function renderWorkloadChart(): void {
   if (state.view) el.appendChild(workloadChart(state.view.zones, capacityOf(state.view)));
 }
 
+/** The sweep shown in the Charts panel (null: none, or the project changed since). */
+let sweepRun: SweepStatus | null = null;
+/** How many rows the chart and table show now (they are redrawn only when rows arrive). */
+let sweepDrawn = -1;
+
+function drawSweepRows(rows: readonly SweepRow[]): void {
+  if (rows.length === sweepDrawn) return;
+  sweepDrawn = rows.length;
+  const el = $('chart-sweep');
+  el.innerHTML = '';
+  if (rows.length === 0) return;
+  el.appendChild(sweepChart(rows));
+  el.appendChild(h('p', { class: 'zp-hint', text: 'Solid: objective (sum of demand × km²). Dashed: workload spread (coefficient of variation of zone demand).' }));
+  const t = h('table', { class: 'zp-table', 'aria-label': 'Sweep results' }, h('thead', {}, h('tr', {}, ...['K', 'Objective', 'CV', 'Max km'].map((x) => h('th', { scope: 'col', text: x })))));
+  const tb = h('tbody');
+  for (const r of rows) tb.appendChild(h('tr', {}, h('td', { text: r.zones }), h('td', { text: fmt(r.objectiveKm2) }), h('td', { text: fmt(r.demandCv, 3) }), h('td', { text: r.note ?? fmt(r.maxKm, 1) })));
+  t.appendChild(tb);
+  el.appendChild(t);
+}
+
+/** The sweep's progress bar, message and buttons; its rows in the chart and table. */
+function showSweep(s: SweepStatus | null): void {
+  const bar = $('sweep-progress');
+  const st = s?.state ?? 'idle';
+  const f = s ? (s.state === 'done' ? 1 : Math.max(0, Math.min(1, s.fraction))) : 0;
+  const total = s ? s.to - s.from + 1 : 0;
+  const done = s?.rows.length ?? 0;
+  bar.dataset['runState'] = st;
+  bar.dataset['rows'] = String(done);
+  bar.setAttribute('aria-valuenow', String(Math.round(f * 100)));
+  bar.setAttribute('aria-valuetext', s ? `${st}: ${done} of ${total} zone counts, ${Math.round(f * 100)}%` : 'idle');
+  $('sweep-bar').style.width = `${f * 100}%`;
+  $('sweep-message').textContent = s
+    ? `Sweep of K ${s.from}–${s.to}: ${st === 'running' ? `${done} of ${total} done, ${Math.round(f * 100)}%` : st}${s.message ? ` — ${s.message}` : ''}`
+    : '';
+  ($('sweep-run') as HTMLButtonElement).disabled = st === 'running';
+  ($('sweep-cancel') as HTMLButtonElement).disabled = st !== 'running';
+  if (s) drawSweepRows(s.rows);
+}
+
+async function pollSweep(id: string): Promise<void> {
+  for (;;) {
+    await new Promise((r) => setTimeout(r, 150));
+    if (sweepRun?.id !== id) return; // the project changed: this sweep is no longer shown
+    const s = await guard('Sweep status', () => api.sweepStatus(id));
+    if (sweepRun?.id !== id) return;
+    if (!s) return showSweep({ ...sweepRun, state: 'failed' });
+    sweepRun = s;
+    showSweep(s);
+    if (s.state === 'running') continue;
+    if (s.state === 'done') status(`Sweep of K ${s.from}–${s.to} done`);
+    else if (s.state === 'cancelled') status(`Sweep of K ${s.from}–${s.to} cancelled; ${s.rows.length} of ${s.to - s.from + 1} zone counts done`);
+    else status(`Sweep failed: ${s.message ?? ''}`, true);
+    return;
+  }
+}
+
 $('sweep-form').addEventListener('submit', (e) => {
   e.preventDefault();
+  if (sweepRun?.state === 'running') return;
   void (async () => {
     const stopSet = Number(($('run-stopset') as HTMLSelectElement).value || state.view?.info.stopSetId);
-    const from = Number(($('sweep-from') as HTMLInputElement).value);
-    const to = Number(($('sweep-to') as HTMLInputElement).value);
-    const el = $('chart-sweep');
-    el.textContent = 'Sweeping…';
+    const a = Number(($('sweep-from') as HTMLInputElement).value);
+    const b = Number(($('sweep-to') as HTMLInputElement).value);
     const { zones: _z, ...rest } = runSettings();
     void _z;
-    const rows = await guard('Sweep', () => api.sweep(stopSet, Math.min(from, to), Math.max(from, to), rest));
-    el.innerHTML = '';
-    if (!rows) return;
-    el.appendChild(sweepChart(rows));
-    el.appendChild(h('p', { class: 'zp-hint', text: 'Solid: objective (sum of demand × km²). Dashed: workload spread (coefficient of variation of zone demand).' }));
-    const t = h('table', { class: 'zp-table', 'aria-label': 'Sweep results' }, h('thead', {}, h('tr', {}, ...['K', 'Objective', 'CV', 'Max km'].map((x) => h('th', { scope: 'col', text: x })))));
-    const tb = h('tbody');
-    for (const r of rows) tb.appendChild(h('tr', {}, h('td', { text: r.zones }), h('td', { text: fmt(r.objectiveKm2) }), h('td', { text: fmt(r.demandCv, 3) }), h('td', { text: r.note ?? fmt(r.maxKm, 1) })));
-    t.appendChild(tb);
-    el.appendChild(t);
-    status(`Sweep of K ${from}–${to} done`);
+    const s = await guard('Sweep', () => api.startSweep(stopSet, Math.min(a, b), Math.max(a, b), rest));
+    if (!s) return;
+    sweepRun = s;
+    sweepDrawn = -1;
+    showSweep(s);
+    status(`Sweeping K ${s.from}–${s.to}…`);
+    await pollSweep(s.id);
   })();
+});
+$('sweep-cancel').addEventListener('click', () => {
+  const s = sweepRun;
+  if (!s || s.state !== 'running') return;
+  void guard('Cancel sweep', () => api.cancelSweep(s.id));
 });
 
 // ---------------------------------------------------------------------------------------------
@@ -919,6 +976,9 @@ async function start(): Promise<void> {
   if (change.what === 'stops') return void showStopSet(change.stopSet);
   // The reports of the project that was open no longer apply.
   for (const id of ['import-report', 'chart-sweep', 'rebalance-result']) $(id).textContent = '';
+  sweepRun = null;
+  sweepDrawn = -1;
+  showSweep(null);
   void showProject();
 });
 

@@ -216,5 +216,10 @@ export interface Api {
   compare(a: string, b: string): Promise<PlanComparison>;
   rebalance(plan: string, stopSetId: number, newName: string, budget: { readonly stops: number } | { readonly demandShare: number } | null): Promise<{ readonly view: PlanView; readonly report: RebalanceReport }>;
   sweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<readonly SweepRow[]>;
+  /** Starts a sweep over [from, to] zones in a worker thread; its rows arrive in sweepStatus one by one. */
+  startSweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<SweepStatus>;
+  sweepStatus(id: string): Promise<SweepStatus>;
+  /** Stops a sweep at once; the rows done before stay, nothing is saved. */
+  cancelSweep(id: string): Promise<SweepStatus>;
   exportPlan(request: ExportRequest): Promise<ExportResult>;
 }

@@ -75,6 +75,9 @@ const exportRequest = z.strictObject({
 
 const runId = text(100).refine((s) => /^[A-Za-z0-9-]+$/.test(s), 'must be a run id');
 const stopSetId = whole(1, 2 ** 31 - 1);
+const sweepArgs = z
+  .tuple([stopSetId, whole(1, 32_767), whole(1, 32_767), sweepSettings])
+  .refine(([, from, to]) => to >= from && to - from <= 100, 'the zone range must be FROM <= TO with at most 100 steps');
 
 /** One schema per method: the whole argument list as a tuple. */
 export const ARG_SCHEMAS: { readonly [M in ApiMethod]: z.ZodType<readonly unknown[]> } = {
@@ -96,7 +99,10 @@ export const ARG_SCHEMAS: { readonly [M in ApiMethod]: z.ZodType<readonly unknow
   renamePlan: z.tuple([planName, planName]),
   compare: z.tuple([planName, planName]),
   rebalance: z.tuple([planName, stopSetId, planName, budget]),
-  sweep: z.tuple([stopSetId, whole(1, 32_767), whole(1, 32_767), sweepSettings]).refine(([, from, to]) => to >= from && to - from <= 100, 'the zone range must be FROM <= TO with at most 100 steps'),
+  sweep: sweepArgs,
+  startSweep: sweepArgs,
+  sweepStatus: z.tuple([runId]),
+  cancelSweep: z.tuple([runId]),
   exportPlan: z.tuple([exportRequest]),
 };
 
@@ -128,7 +134,7 @@ export function refuseFilePaths(method: string, args: readonly unknown[]): void 
   if (method === 'newProject' || method === 'openProject') refuse('a project file');
   if (method === 'importStops' && has(args[0], 'file')) refuse('a stops file');
   if (method === 'startRun' && has(args[1], 'depotsFile')) refuse('a depots file');
-  if (method === 'sweep' && has(args[3], 'depotsFile')) refuse('a depots file');
+  if ((method === 'sweep' || method === 'startSweep') && has(args[3], 'depotsFile')) refuse('a depots file');
   if (method === 'exportPlan' && has(args[0], 'file')) refuse('an export destination');
 }
 

@@ -50,6 +50,9 @@ export const API_METHODS = [
   'compare',
   'rebalance',
   'sweep',
+  'startSweep',
+  'sweepStatus',
+  'cancelSweep',
   'exportPlan',
 ] as const;
 

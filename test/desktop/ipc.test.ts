@@ -41,6 +41,9 @@ const GOOD: { [M in ApiMethod]: unknown[] } = {
   compare: ['week 1', 'week 2'],
   rebalance: ['week 1', 2, 'week 2', { stops: 40 }],
   sweep: [1, 2, 8, { seed: 1 }],
+  startSweep: [1, 2, 8, { seed: 1, restarts: 2 }],
+  sweepStatus: ['0f8fad5b-d9cb-469f-a165-70867728950e'],
+  cancelSweep: ['0f8fad5b-d9cb-469f-a165-70867728950e'],
   exportPlan: [{ plan: 'week 1', kind: 'plan', file: null }],
 };
 
@@ -174,6 +177,12 @@ describe('ipc: every method handled, every argument validated', () => {
       ['importStops', [{ name: 'a.csv', text: 'x' }, { delimiter: '|' }]],
       ['rebalance', ['a', 1, 'b', { stops: 3, demandShare: 0.1 }]],
       ['sweep', [1, 8, 2, {}]],
+      ['startSweep', [1, 8, 2, {}]],
+      ['startSweep', [1, 1, 200, {}]],
+      ['startSweep', [1, 2, 8, { zones: 3 }]],
+      ['startSweep', [1, 2, 8, { seed: 1 }, 'onChange']],
+      ['sweepStatus', ['../../etc']],
+      ['cancelSweep', ['']],
       ['exportPlan', [{ plan: 'p', kind: 'pdf', file: null }]],
       ['runStatus', ['../../etc']],
       ['plan', ['']],

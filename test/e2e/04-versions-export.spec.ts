@@ -1,11 +1,15 @@
 /** Plan versions (list, rename, compare with changed stops on the map) and exports (GeoJSON validated, CSV, PNG). */
 import { readFileSync } from 'node:fs';
 import * as GJV from 'geojson-validation';
-import type { ImportOutcome, PlanView, ProjectInfo, RunStatus } from '../../src/api/app-types.js';
-import type { PlanComparison } from '../../src/api/types.js';
+import type { ImportOutcome, PlanView, ProjectInfo, RunStatus, SweepStatus } from '../../src/api/app-types.js';
+import type { PlanComparison, SweepRow } from '../../src/api/types.js';
 import { expect, openPlanNamed, shot, test, type AppServer } from './fixtures.js';
 
 const DEMO = 'demo: 12 zones';
+
+/** A number as the window writes it (renderer/format.ts fmt). */
+const fmt = (n: number, digits = 0): string =>
+  Number.isFinite(n) ? n.toLocaleString('en-GB', { maximumFractionDigits: digits, minimumFractionDigits: digits }) : n === Infinity ? '∞' : '–';
 const OTHER = 'e2e demo 9 zones';
 
 async function ensureOtherPlan(app: AppServer): Promise<void> {
@@ -98,20 +102,64 @@ test('exports: plan and zones GeoJSON are valid, assignments CSV and a map PNG d
   expect(errors).toEqual([]);
 });
 
-test('a sweep over K draws objective and workload spread against K', async ({ openApp, errors }) => {
+test('a sweep over K draws objective and workload spread against K, its progress filling row by row', async ({ openApp, app, errors }) => {
   const page = await openApp();
   await openPlanNamed(page, DEMO);
   await page.locator('#p-charts summary').click();
   await expect(page.locator('#chart-workload svg rect')).toHaveCount(12);
+  await expect(page.locator('#sweep-progress')).toHaveAttribute('data-run-state', 'idle');
   await page.fill('#sweep-from', '3');
   await page.fill('#sweep-to', '6');
+  // What the window asked for, to ask the Api the same.
+  const started = page.waitForRequest((r) => r.url().endsWith('/api/call/startSweep'));
   await page.click('#sweep-run');
+  const args = ((await started).postDataJSON() as { args: unknown[] }).args;
+  expect(args.slice(0, 3)).toEqual([expect.any(Number), 3, 6]);
+  const progress = page.locator('#sweep-progress');
+  await expect(progress).toHaveAttribute('data-run-state', 'done');
+  await expect(progress).toHaveAttribute('aria-valuenow', '100');
+  await expect(progress).toHaveAttribute('data-rows', '4');
+  await expect(page.locator('#sweep-cancel')).toBeDisabled();
+  await expect(page.locator('#sweep-run')).toBeEnabled();
   await expect(page.locator('#chart-sweep svg polyline')).toHaveCount(2);
   await expect(page.locator('#chart-sweep tbody tr')).toHaveCount(4);
   const ks = await page.locator('#chart-sweep tbody tr td:first-child').allTextContents();
   expect(ks).toEqual(['3', '4', '5', '6']);
+  // The rows shown are the rows the Api gives for the same sweep.
+  const rows = await app.call<SweepRow[]>('sweep', ...args);
+  const cells = await page.locator('#chart-sweep tbody td').allTextContents();
+  expect(cells).toEqual(rows.flatMap((r) => [String(r.zones), fmt(r.objectiveKm2), fmt(r.demandCv, 3), r.note ?? fmt(r.maxKm, 1)]));
   await page.locator('#p-charts').scrollIntoViewIfNeeded();
   await shot(page, '04-charts');
+  expect(errors).toEqual([]);
+});
+
+test('a wide sweep is cancelled from the keyboard and keeps the rows done', async ({ openApp, app, errors }) => {
+  const page = await openApp();
+  await openPlanNamed(page, DEMO);
+  await page.locator('#p-charts summary').click();
+  await page.fill('#sweep-from', '2');
+  await page.fill('#sweep-to', '100');
+  const started = page.waitForResponse((r) => r.url().endsWith('/api/call/startSweep'));
+  await page.click('#sweep-run');
+  const { id } = ((await (await started).json()) as { value: SweepStatus }).value;
+  const progress = page.locator('#sweep-progress');
+  await expect(progress).toHaveAttribute('data-run-state', 'running');
+  const cancel = page.locator('#sweep-cancel');
+  await expect(cancel).toBeEnabled();
+  await expect(page.locator('#sweep-run')).toBeDisabled();
+  await cancel.focus();
+  await page.keyboard.press('Enter');
+  await expect(progress).toHaveAttribute('data-run-state', 'cancelled', { timeout: 5000 });
+  await expect(page.locator('#sweep-message')).toContainText('cancelled');
+  await expect(cancel).toBeDisabled();
+  await expect(page.locator('#sweep-run')).toBeEnabled();
+  const s = await app.call<SweepStatus>('sweepStatus', id);
+  expect(s.state).toBe('cancelled');
+  expect(s.rows.length).toBeLessThan(99);
+  await expect(progress).toHaveAttribute('data-rows', String(s.rows.length));
+  await expect(page.locator('#chart-sweep tbody tr')).toHaveCount(s.rows.length);
+  if (s.rows.length > 0) expect(await page.locator('#chart-sweep tbody tr td:first-child').allTextContents()).toEqual(s.rows.map((r) => String(r.zones)));
   expect(errors).toEqual([]);
 });
 

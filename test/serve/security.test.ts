@@ -243,6 +243,13 @@ describe('browser-mode server: the API', () => {
       ['edit', ['p1', { kind: 'teleport', stop: 1 }]],
       ['startRun', [1, { zones: 0 }, 'x']],
       ['startRun', [1, { zones: 3, threads: 64 }, 'x']],
+      ['startSweep', [1, 6, 2, {}]],
+      ['startSweep', [1, 2, 6, { zones: 4 }]],
+      ['startSweep', [1, 2, 6, { threads: 8 }]],
+      ['startSweep', [1, 2]],
+      ['sweepStatus', ['a/b']],
+      ['sweepStatus', []],
+      ['cancelSweep', [42]],
       ['exportPlan', [{ plan: 'p1', kind: 'plan', file: 'a\u0000b' }]],
     ] as [string, unknown[]][]) {
       const a = await call(server.port, method, args);
@@ -261,6 +268,7 @@ describe('browser-mode server: the API', () => {
       ['importStops', [{ file: '/etc/hosts' }]],
       ['startRun', [1, { zones: 3, depotsFile: '/etc/hosts' }, 'x']],
       ['sweep', [1, 2, 3, { depotsFile: '/etc/hosts' }]],
+      ['startSweep', [1, 2, 3, { depotsFile: '/etc/hosts' }]],
       ['exportPlan', [{ plan: 'p1', kind: 'plan', file: target }]],
     ] as [string, unknown[]][]) {
       const a = await call(server.port, method, args);
@@ -291,6 +299,56 @@ describe('browser-mode server: the API', () => {
     expect(r.error!.kind).toBe('project');
     expect(r.error!.message).toMatch(/no such plan/);
     expect(a.body.toString()).not.toMatch(/\n\s+at /);
+  });
+});
+
+describe('browser-mode server: a sweep started, followed and cancelled over HTTP', () => {
+  type Status = { id: string; state: string; fraction: number; from: number; to: number; rows: { zones: number; ms?: number }[]; message: string | null };
+  const value = <T>(a: Answer): T => {
+    const r = json(a);
+    expect(r.ok, JSON.stringify(r.error)).toBe(true);
+    return r.value as T;
+  };
+
+  it('starts a sweep, gives its rows through sweepStatus until done, the same rows as sweep', async () => {
+    const started = value<Status>(await call(server.port, 'startSweep', [1, 2, 4, { seed: 1, restarts: 1 }]));
+    expect(started).toMatchObject({ state: 'running', from: 2, to: 4, fraction: 0, rows: [] });
+    let s = started;
+    for (let i = 0; i < 600 && s.state === 'running'; i++) {
+      await new Promise((r) => setTimeout(r, 20));
+      const next = value<Status>(await call(server.port, 'sweepStatus', [started.id]));
+      // Rows only ever grow, in order of the number of zones.
+      expect(next.rows.slice(0, s.rows.length)).toEqual(s.rows);
+      expect(next.fraction).toBeGreaterThanOrEqual(s.fraction);
+      s = next;
+    }
+    expect(s.state).toBe('done');
+    expect(s.fraction).toBe(1);
+    expect(s.rows.map((r) => r.zones)).toEqual([2, 3, 4]);
+    // The same figures as the sweep that answers once done (its timings aside).
+    const untimed = (rows: readonly { ms?: unknown }[]) => rows.map(({ ms: _ms, ...r }) => r);
+    expect(untimed(s.rows)).toEqual(untimed(value<Status['rows']>(await call(server.port, 'sweep', [1, 2, 4, { seed: 1, restarts: 1 }]))));
+  });
+
+  it('cancels a sweep under way: cancelled, with the rows done before kept', async () => {
+    const started = value<Status>(await call(server.port, 'startSweep', [1, 2, 100, { seed: 1, restarts: 50 }]));
+    const cancelled = value<Status>(await call(server.port, 'cancelSweep', [started.id]));
+    expect(cancelled.state).toBe('cancelled');
+    expect(cancelled.rows.length).toBeLessThan(99);
+    expect(cancelled.message).toMatch(new RegExp(`cancelled after ${cancelled.rows.length} of 99 zone counts`));
+    const later = value<Status>(await call(server.port, 'sweepStatus', [started.id]));
+    expect(later).toEqual(cancelled);
+    // Cancelling again changes nothing.
+    expect(value<Status>(await call(server.port, 'cancelSweep', [started.id]))).toEqual(cancelled);
+  });
+
+  it('answers an unknown sweep id with a usage error', async () => {
+    for (const m of ['sweepStatus', 'cancelSweep']) {
+      const r = json(await call(server.port, m, ['0f8fad5b-d9cb-469f-a165-70867728950e']));
+      expect(r.ok, m).toBe(false);
+      expect(r.error!.kind, m).toBe('usage');
+      expect(r.error!.message, m).toMatch(/no sweep/);
+    }
   });
 });
 
