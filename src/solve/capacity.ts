@@ -333,8 +333,10 @@ export function assignWithLimits(
       if (plain && better(plain, chosen)) chosen = plain;
     }
     if (large && chosen.breach > 0) {
+      // The further repair works on the first rounding's own assignment: when that is the one
+      // chosen, its figures must be the ones after the repair.
       const more = finish(first, fullBudget(first.split));
-      if (better(more, chosen)) chosen = more;
+      if (chosen === first || better(more, chosen)) chosen = more;
     }
   }
 
