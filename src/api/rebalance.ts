@@ -23,6 +23,8 @@ export interface RebalanceOptions {
   readonly addZones?: number;
   readonly removeZones?: readonly number[];
   readonly centre?: 'arc' | 'mean';
+  /** Told how far the rebalance is, 0..1 (a rough share of the assignments it solves). */
+  readonly onProgress?: (fraction: number) => void;
 }
 
 /**
@@ -127,6 +129,7 @@ export function rebalancePlan(old: { stops: StopSet; plan: Plan; pinned?: Uint8A
       ...(options.centre ? { centre: options.centre } : {}),
       stopIds: stops.ids,
     },
+    options.onProgress,
   );
   const newPlan: Plan = {
     zoneIds,

@@ -37,6 +37,12 @@ export interface RebalanceSettings {
   readonly stopIds?: readonly string[];
 }
 
+/**
+ * Told how far a rebalance is, 0..1, after each assignment it solves (a rough share: the number
+ * of assignments a search needs depends on how soon its price search settles).
+ */
+export type RebalanceProgress = (fraction: number) => void;
+
 export interface RebalanceResult {
   readonly assignment: Int32Array;
   readonly centres: Float64Array;
@@ -67,8 +73,22 @@ export interface RebalanceResult {
  * budget the search found to work (checked by searching within it; the search is a heuristic, so
  * "smallest" is the fewest moves it met, not a proven minimum).
  */
-export function rebalance(input: RebalanceInput, settings: RebalanceSettings): RebalanceResult {
+export function rebalance(input: RebalanceInput, settings: RebalanceSettings, onProgress?: RebalanceProgress): RebalanceResult {
   const budget = settings.budget;
+  // Each search solves `rounds` assignments without a budget; with one, up to 2 + BISECTIONS per
+  // round. The fraction told counts the assignments solved against that (never going back).
+  const rounds = settings.rounds ?? 3;
+  const expected = budget ? rounds * (2 + BISECTIONS) : rounds;
+  let solved = 0;
+  let told = 0;
+  const tick = onProgress
+    ? (): void => {
+        solved++;
+        const f = Math.min(0.99, solved / expected);
+        if (f > told) onProgress((told = f));
+      }
+    : undefined;
+  const search = (i: RebalanceInput, s: RebalanceSettings): RebalanceResult | TooSmall => searchOnce(i, s, tick);
   if (!budget) return search(input, settings) as RebalanceResult;
   type Moves = { readonly moved: number; readonly movedDemand: number };
   const measure = (m: Moves): number => ('stops' in budget ? m.moved : m.movedDemand);
@@ -132,7 +152,10 @@ interface TooSmall {
   readonly totalDemand: number;
 }
 
-function search(input: RebalanceInput, settings: RebalanceSettings): RebalanceResult | TooSmall {
+/** Steps of the bisection on the price of a move, at most. */
+const BISECTIONS = 24;
+
+function searchOnce(input: RebalanceInput, settings: RebalanceSettings, tick?: () => void): RebalanceResult | TooSmall {
   const { units, demand, before, forced } = input;
   const n = demand.length;
   const k = input.centres.length / 3;
@@ -179,6 +202,7 @@ function search(input: RebalanceInput, settings: RebalanceSettings): RebalanceRe
   const step = (lambda: number): LimitedAssignment => {
     const r = assignWithLimits(units, demand, centres, bounds, locked, { stay, moveCost: perUnit(lambda), ...(warm ? { warm } : {}) });
     warm = r.prices;
+    tick?.();
     if (budget && r.feasible) {
       const c = count(r.assignment);
       if (!leastFeasible || measure(c) < measure(leastFeasible)) leastFeasible = c;
@@ -228,7 +252,7 @@ function search(input: RebalanceInput, settings: RebalanceSettings): RebalanceRe
       r = top;
       c = ct;
       lambda = high;
-      for (let it = 0; it < 24 && hi - lo > 1e-9 * high; it++) {
+      for (let it = 0; it < BISECTIONS && hi - lo > 1e-9 * high; it++) {
         const mid = (lo + hi) / 2;
         const rm = step(mid);
         const cm = count(rm.assignment);

@@ -172,6 +172,21 @@ describe('rebalancePlan: demand doubled in one town', () => {
     expect(report.feasible).toBe(true);
   });
 
+  it('tells its progress: rising, below 1, and the plan the same as without listening', () => {
+    for (const options of [{}, { budget: { demandShare: 0.05 } }] as const) {
+      const seen: number[] = [];
+      const heard = rebalancePlan(old, next, { ...options, onProgress: (f) => seen.push(f) });
+      const quiet = rebalancePlan(old, next, options);
+      expect(seen.length).toBeGreaterThan(0);
+      for (let i = 0; i < seen.length; i++) {
+        expect(seen[i]!).toBeGreaterThan(i === 0 ? 0 : seen[i - 1]!);
+        expect(seen[i]!).toBeLessThan(1);
+      }
+      expect(Array.from(heard.solved.plan.assignment)).toEqual(Array.from(quiet.solved.plan.assignment));
+      expect(heard.report).toEqual(quiet.report);
+    }
+  });
+
   it('says how many moves the caps need when the budget is too small', () => {
     let message = '';
     try {
