@@ -139,6 +139,21 @@ export interface RunStatus {
   readonly planName: string;
 }
 
+/** A rebalance under way: a plan rebalanced onto a new stop set in a worker thread, saved when done. */
+export interface RebalanceStatus {
+  readonly id: string;
+  readonly state: RunState;
+  readonly fraction: number;
+  /** 'start', 'rebalance' (the assignments), 'boundaries' (drawing the zones), 'saving', 'done'. */
+  readonly phase: string;
+  readonly message: string | null;
+  /** The plan rebalanced, and the name the new plan is saved under when done. */
+  readonly parent: string;
+  readonly planName: string;
+  /** What changed, once the new plan is saved. */
+  readonly report: RebalanceReport | null;
+}
+
 /** A sweep under way: every number of zones in a range planned in a worker thread, one row each. */
 export interface SweepStatus {
   readonly id: string;
@@ -215,6 +230,11 @@ export interface Api {
   renamePlan(from: string, to: string): Promise<ProjectInfo>;
   compare(a: string, b: string): Promise<PlanComparison>;
   rebalance(plan: string, stopSetId: number, newName: string, budget: { readonly stops: number } | { readonly demandShare: number } | null): Promise<{ readonly view: PlanView; readonly report: RebalanceReport }>;
+  /** Starts a rebalance in a worker thread (the plan as edited now, onto the stop set); saved as newName when done. */
+  startRebalance(plan: string, stopSetId: number, newName: string, budget: { readonly stops: number } | { readonly demandShare: number } | null): Promise<RebalanceStatus>;
+  rebalanceStatus(id: string): Promise<RebalanceStatus>;
+  /** Stops a rebalance at once; nothing is saved, the plans are unchanged. */
+  cancelRebalance(id: string): Promise<RebalanceStatus>;
   sweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<readonly SweepRow[]>;
   /** Starts a sweep over [from, to] zones in a worker thread; its rows arrive in sweepStatus one by one. */
   startSweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<SweepStatus>;

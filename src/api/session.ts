@@ -9,6 +9,9 @@ import { lonLatFromVector } from '../geo/unit.js';
 import { startPlanRun, type PlanRunHandle, type WorkerFactory } from '../run/plan-run.js';
 import type { BoundariesWorkerFactory } from '../run/boundaries-run.js';
 import type { SweepWorkerFactory } from '../run/sweep-run.js';
+import { startRebalanceRun, type RebalanceWorkerFactory } from '../run/rebalance-run.js';
+import type { RebalanceOutput } from '../run/rebalance-worker.js';
+import type { WorkerRunHandle } from '../run/worker-run.js';
 import type {
   Api,
   ExportRequest,
@@ -20,6 +23,7 @@ import type {
   PlanInfo,
   PlanView,
   ProjectInfo,
+  RebalanceStatus,
   RunSettings,
   RunStatus,
   StopDetails,
@@ -31,7 +35,7 @@ import { applyEdits, type EditedPlan } from './edited-plan.js';
 import { planLayers } from './plan-file.js';
 import { planArrays, planView, stopDetails } from './plan-view.js';
 import { createProject, openProject, type LoadedPlan, type ProjectHandle } from './project.js';
-import { comparePlans, rebalancePlan } from './rebalance.js';
+import { comparePlans } from './rebalance.js';
 import { checkReport } from './report.js';
 import { SweepRuns } from './sweep-runs.js';
 import { readStopsText } from './text-import.js';
@@ -41,7 +45,8 @@ import { readDepotsFile } from '../io/zone-files.js';
 import { ZoneDrawings, type PlanState } from './zone-drawings.js';
 import type { PlanComparison, PlanEditInput, PlanSettingsInput, ProjectPlanRow, RebalanceReport, StopFileOptions, SweepRow } from './types.js';
 import { UndoStacks, type EditStep } from './undo-stack.js';
-import { AppError } from './wire-error.js';
+import { AppError, toWireError } from './wire-error.js';
+import type { WireError } from './wire.js';
 
 export interface SessionOptions {
   readonly mode: 'desktop' | 'browser';
@@ -52,6 +57,8 @@ export interface SessionOptions {
   /** How sweeps and the redrawing of polygons get their worker threads (default: the workers beside the app). */
   readonly sweepWorkerFactory?: SweepWorkerFactory;
   readonly boundariesWorkerFactory?: BoundariesWorkerFactory;
+  /** How rebalances get their worker thread (default: the rebalance worker beside the app). */
+  readonly rebalanceWorkerFactory?: RebalanceWorkerFactory;
 }
 
 interface RunRecord {
@@ -59,6 +66,13 @@ interface RunRecord {
   readonly run: PlanRunHandle;
   /** Settles when the run has ended and its plan is saved (or not). */
   readonly ended: Promise<void>;
+}
+
+interface RebalanceRecord {
+  status: { -readonly [K in keyof RebalanceStatus]: RebalanceStatus[K] };
+  readonly run: WorkerRunHandle<RebalanceOutput>;
+  /** Settles when the rebalance has ended and its plan is saved (or not), with its error when it failed. */
+  readonly ended: Promise<WireError | null>;
 }
 
 type CachedPlan = PlanState;
@@ -70,6 +84,7 @@ type CachedPlan = PlanState;
 export class AppSession implements Api {
   private handle: ProjectHandle | null = null;
   private readonly runs = new Map<string, RunRecord>();
+  private readonly rebalances = new Map<string, RebalanceRecord>();
   private readonly history = new UndoStacks();
   private readonly plans = new Map<string, CachedPlan>();
   /** Numbers the states of plans (every edit, undo and redo makes a new one), never reused in this window. */
@@ -108,7 +123,13 @@ export class AppSession implements Api {
 
   /** Cancels runs under way and closes the project. */
   async close(): Promise<void> {
-    await Promise.all([...this.runs.values()].filter((r) => r.status.state === 'running').map((r) => this.cancelRun(r.status.id)));
+    const runs = [...this.runs.values()].filter((r) => r.status.state === 'running');
+    const rebalances = [...this.rebalances.values()].filter((r) => r.status.state === 'running');
+    await Promise.all([...runs.map((r) => this.cancelRun(r.status.id)), ...rebalances.map((r) => this.cancelRebalance(r.status.id))]);
+    // The window may still ask after them (another project was opened): they say why they stopped.
+    const why = `because project ${this.handle ? path.basename(this.handle.file) : ''} was closed; nothing was saved`;
+    for (const r of runs) if (r.status.state === 'cancelled') r.status.message = `the plan run was stopped ${why}`;
+    for (const r of rebalances) if (r.status.state === 'cancelled') r.status.message = `the rebalance was stopped ${why}`;
     await Promise.all([this.sweeps.cancelAll(), this.drawings.clear()]);
     this.plans.clear();
     this.loaded.clear();
@@ -171,9 +192,7 @@ export class AppSession implements Api {
   async startRun(stopSetId: number, settings: RunSettings, planName: string): Promise<RunStatus> {
     const h = this.need();
     const name = h.store.checkNameFree(planName);
-    for (const r of this.runs.values()) {
-      if (r.status.state === 'running' && r.status.planName === name) throw new AppError('usage', `a run that saves plan "${name}" is already under way`);
-    }
+    this.nameNotTaken(name);
     const stops = h.store.loadStopSet(stopSetId);
     if (settings.depotsFile !== undefined && settings.depots !== undefined) throw new AppError('usage', 'give the fixed depots as a file or as its text, not both');
     // A bad depots file stops here, with its problems by row and field.
@@ -375,21 +394,101 @@ export class AppSession implements Api {
     return comparePlans(pa, pb);
   }
 
+  /**
+   * Starts rebalancing a plan (as edited now) onto a stop set in a worker thread; the new plan is
+   * saved as `newName`, with the plan as its parent, when the rebalance is done. The name is
+   * checked here (free, and not that of another run under way).
+   */
+  async startRebalance(plan: string, stopSetId: number, newName: string, budget: { readonly stops: number } | { readonly demandShare: number } | null): Promise<RebalanceStatus> {
+    const h = this.need();
+    const old = (await this.edited(plan)).plan;
+    const parent = old.loaded.info.name;
+    const name = h.store.checkNameFree(newName);
+    this.nameNotTaken(name);
+    const stops = h.store.loadStopSet(stopSetId);
+    const id = randomUUID();
+    const status: RebalanceRecord['status'] = { id, state: 'running', fraction: 0, phase: 'start', message: null, parent, planName: name, report: null };
+    const run = startRebalanceRun(
+      { old: { stops: old.stops, plan: old.plan, pinned: old.pinned }, stops, budget },
+      (p) => {
+        if (status.state !== 'running' || p.fraction < status.fraction) return;
+        status.fraction = p.fraction;
+        status.phase = p.phase;
+      },
+      this.options.rebalanceWorkerFactory,
+    );
+    const ended = run.outcome.then(async (o): Promise<WireError | null> => {
+      if (status.state !== 'running') return null;
+      if (o.state === 'cancelled') {
+        Object.assign(status, { state: 'cancelled', message: 'the rebalance was cancelled; the saved plans are unchanged' });
+        return null;
+      }
+      if (o.state === 'failed') {
+        Object.assign(status, { state: 'failed', message: o.error.message });
+        return o.error;
+      }
+      try {
+        if (this.handle !== h) throw new AppError('project', `the project was closed before plan "${name}" could be saved in it`);
+        status.phase = 'saving';
+        await h.savePlan(o.value.solved, name, { parent, boundaries: o.value.boundaries });
+        Object.assign(status, { state: 'done', fraction: 1, phase: 'done', report: o.value.report });
+        return null;
+      } catch (e) {
+        const error = toWireError(e);
+        Object.assign(status, { state: 'failed', message: error.message });
+        return error;
+      }
+    });
+    this.rebalances.set(id, { status, run, ended });
+    return { ...status };
+  }
+
+  /** A plan name that a plan run or a rebalance under way will save under is not free either. */
+  private nameNotTaken(name: string): void {
+    for (const r of [...this.runs.values(), ...this.rebalances.values()]) {
+      if (r.status.state === 'running' && r.status.planName === name) throw new AppError('usage', `a run that saves plan "${name}" is already under way`);
+    }
+  }
+
+  private rebalanceOf(id: string): RebalanceRecord {
+    const r = this.rebalances.get(id);
+    if (!r) throw new AppError('usage', `no rebalance ${id} in this window`);
+    return r;
+  }
+
+  async rebalanceStatus(id: string): Promise<RebalanceStatus> {
+    return { ...this.rebalanceOf(id).status };
+  }
+
+  /** Stops a rebalance at once (its thread is ended); nothing is saved. */
+  async cancelRebalance(id: string): Promise<RebalanceStatus> {
+    const r = this.rebalanceOf(id);
+    if (r.status.state === 'running') {
+      await r.run.cancel();
+      await r.ended;
+    }
+    return { ...r.status };
+  }
+
+  /** Waits until a rebalance has ended (and its plan is saved when it succeeded). */
+  async waitForRebalance(id: string): Promise<RebalanceStatus> {
+    const r = this.rebalanceOf(id);
+    await r.ended;
+    return { ...r.status };
+  }
+
+  /** Rebalances a plan and waits for the new plan (the window's way is startRebalance, with progress). */
   async rebalance(
     plan: string,
     stopSetId: number,
     newName: string,
     budget: { readonly stops: number } | { readonly demandShare: number } | null,
   ): Promise<{ readonly view: PlanView; readonly report: RebalanceReport }> {
-    const h = this.need();
-    const old = (await this.edited(plan)).plan;
-    const parent = old.loaded.info.name;
-    const name = h.store.checkNameFree(newName);
-    const stops = h.store.loadStopSet(stopSetId);
-    const { solved, report } = rebalancePlan(old, stops, budget ? { budget } : {});
-    const { geojson } = boundariesGeoJson(solved);
-    await h.savePlan(solved, name, { parent, boundaries: geojson });
-    return { view: await this.plan(name), report };
+    const r = this.rebalanceOf((await this.startRebalance(plan, stopSetId, newName, budget)).id);
+    const error = await r.ended;
+    const s = r.status;
+    if (s.state === 'done' && s.report) return { view: await this.plan(s.planName), report: s.report };
+    throw new AppError(error?.kind ?? 'cancelled', s.message ?? `the rebalance ended ${s.state}`);
   }
 
   /**

@@ -250,6 +250,10 @@ describe('browser-mode server: the API', () => {
       ['sweepStatus', ['a/b']],
       ['sweepStatus', []],
       ['cancelSweep', [42]],
+      ['startRebalance', ['p1', 1, 'x', { stops: 1.5 }]],
+      ['startRebalance', ['p1', 1]],
+      ['rebalanceStatus', ['a/b']],
+      ['cancelRebalance', []],
       ['exportPlan', [{ plan: 'p1', kind: 'plan', file: 'a\u0000b' }]],
     ] as [string, unknown[]][]) {
       const a = await call(server.port, method, args);
@@ -348,6 +352,49 @@ describe('browser-mode server: a sweep started, followed and cancelled over HTTP
       expect(r.ok, m).toBe(false);
       expect(r.error!.kind, m).toBe('usage');
       expect(r.error!.message, m).toMatch(/no sweep/);
+    }
+  });
+});
+
+describe('browser-mode server: a rebalance started, followed and cancelled over HTTP', () => {
+  type Status = { id: string; state: string; fraction: number; phase: string; parent: string; planName: string; message: string | null; report: { moved: number; added: number; removedStops: number } | null };
+  const value = <T>(a: Answer): T => {
+    const r = json(a);
+    expect(r.ok, JSON.stringify(r.error)).toBe(true);
+    return r.value as T;
+  };
+
+  it('starts a rebalance, follows it through rebalanceStatus until the new plan is saved', async () => {
+    const started = value<Status>(await call(server.port, 'startRebalance', ['p1', 1, 'p1 again', null]));
+    expect(started).toMatchObject({ state: 'running', fraction: 0, parent: 'p1', planName: 'p1 again', report: null });
+    let s = started;
+    for (let i = 0; i < 600 && s.state === 'running'; i++) {
+      await new Promise((r) => setTimeout(r, 20));
+      const next = value<Status>(await call(server.port, 'rebalanceStatus', [started.id]));
+      expect(next.fraction).toBeGreaterThanOrEqual(s.fraction);
+      s = next;
+    }
+    expect(s).toMatchObject({ state: 'done', fraction: 1, phase: 'done', message: null });
+    // The same stops again: nothing added, nothing gone, nothing moved.
+    expect(s.report).toMatchObject({ moved: 0, added: 0, removedStops: 0 });
+    expect((await session.project()).plans.find((p) => p.name === 'p1 again')?.parent).toBe('p1');
+  });
+
+  it('cancels a rebalance under way: cancelled, nothing saved', async () => {
+    const started = value<Status>(await call(server.port, 'startRebalance', ['p1', 1, 'never saved', { stops: 0 }]));
+    const cancelled = value<Status>(await call(server.port, 'cancelRebalance', [started.id]));
+    expect(cancelled.state).toBe('cancelled');
+    expect(cancelled.report).toBeNull();
+    expect(value<Status>(await call(server.port, 'rebalanceStatus', [started.id]))).toEqual(cancelled);
+    expect((await session.project()).plans.map((p) => p.name)).not.toContain('never saved');
+  });
+
+  it('answers an unknown rebalance id with a usage error', async () => {
+    for (const m of ['rebalanceStatus', 'cancelRebalance']) {
+      const r = json(await call(server.port, m, ['0f8fad5b-d9cb-469f-a165-70867728950e']));
+      expect(r.ok, m).toBe(false);
+      expect(r.error!.kind, m).toBe('usage');
+      expect(r.error!.message, m).toMatch(/no rebalance/);
     }
   });
 });
