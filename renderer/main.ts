@@ -5,12 +5,12 @@
  * 90th-percentile spread ring, from the stop arrays).
  *
  * Test hooks are data attributes only: body[data-ready="1"] once the first plan is drawn,
- * #run-progress[data-run-state], #sweep-progress[data-run-state|data-rows], body[data-plan-name], #map[data-stop-count], #map[data-draw-ms],
+ * #run-progress[data-run-state], #sweep-progress[data-run-state|data-rows], #rebalance-progress[data-run-state], body[data-plan-name], #map[data-stop-count], #map[data-draw-ms],
  * #centre-edit[data-zone|data-lon|data-lat|data-step-m|data-fixed] while a centre is moved by keyboard.
  */
 import 'leaflet/dist/leaflet.css';
 import './style.css';
-import type { Api, PlanArrays, PlanView, ProjectInfo, RunSettings, RunStatus, StopDetails, SweepStatus } from '../src/api/app-types.js';
+import type { Api, PlanArrays, PlanView, ProjectInfo, RebalanceStatus, RunSettings, RunStatus, StopDetails, SweepStatus } from '../src/api/app-types.js';
 import type { InputProblem, PlanComparison, SweepRow, ZoneRow } from '../src/api/types.js';
 import type { AppEvents } from '../src/desktop/channels.js';
 import { createHttpApi, errorMessage } from './api-client.js';
@@ -644,8 +644,51 @@ async function renderComparison(): Promise<void> {
   $('map').dataset['highlighted'] = String(marked);
 }
 
+/** The rebalance shown in the Versions panel (null: none, or the project changed since). */
+let rebalanceRun: RebalanceStatus | null = null;
+
+const REBALANCE_PHASES: { readonly [phase: string]: string } = { start: 'starting', rebalance: 'assigning', boundaries: 'drawing the zones', saving: 'saving', done: 'done' };
+
+/** The rebalance's progress bar, message and buttons. */
+function showRebalance(s: RebalanceStatus | null): void {
+  const bar = $('rebalance-progress');
+  const st = s?.state ?? 'idle';
+  const f = s ? (s.state === 'done' ? 1 : Math.max(0, Math.min(1, s.fraction))) : 0;
+  const phase = s ? (REBALANCE_PHASES[s.phase] ?? s.phase) : '';
+  bar.dataset['runState'] = st;
+  bar.setAttribute('aria-valuenow', String(Math.round(f * 100)));
+  bar.setAttribute('aria-valuetext', s ? `${st}: ${phase} ${Math.round(f * 100)}%` : 'idle');
+  $('rebalance-bar').style.width = `${f * 100}%`;
+  $('rebalance-message').textContent = s ? `Rebalance of ${s.parent} as ${s.planName}: ${st === 'running' ? `${phase} ${Math.round(f * 100)}%` : st}${s.message ? ` — ${s.message}` : ''}` : '';
+  ($('rebalance-run') as HTMLButtonElement).disabled = st === 'running';
+  ($('rebalance-cancel') as HTMLButtonElement).disabled = st !== 'running';
+}
+
+async function pollRebalance(id: string): Promise<void> {
+  for (;;) {
+    await new Promise((r) => setTimeout(r, 150));
+    if (rebalanceRun?.id !== id) return; // the project changed: this rebalance is no longer shown
+    const s = await guard('Rebalance status', () => api.rebalanceStatus(id));
+    if (rebalanceRun?.id !== id) return;
+    if (!s) return showRebalance({ ...rebalanceRun, state: 'failed' });
+    rebalanceRun = s;
+    showRebalance(s);
+    if (s.state === 'running') continue;
+    if (s.state === 'done' && s.report) {
+      const r = s.report;
+      $('rebalance-result').textContent = `Saved ${s.planName}: ${r.added} new stops, ${r.removedStops} gone, ${r.moved} moved (demand ${fmt(r.movedDemand)}), ${r.forced} forced. ${r.feasible ? 'Every limit holds.' : 'Some limits do not hold.'} ${r.notes.join(' ')}`;
+      await refreshProject();
+      await openPlan(s.planName, false);
+      status(`Plan ${s.planName} saved`);
+    } else if (s.state === 'cancelled') status(`Rebalance of ${s.parent} cancelled; no plan saved`);
+    else status(`Rebalance failed: ${s.message ?? ''}`, true);
+    return;
+  }
+}
+
 $('rebalance-form').addEventListener('submit', (e) => {
   e.preventDefault();
+  if (rebalanceRun?.state === 'running') return;
   void (async () => {
     const plan = state.plan;
     if (!plan) return;
@@ -653,14 +696,19 @@ $('rebalance-form').addEventListener('submit', (e) => {
     const budgetText = ($('rebalance-budget') as HTMLInputElement).value.trim();
     const name = ($('rebalance-name') as HTMLInputElement).value.trim() || `${plan}-rebalanced`;
     const budget = budgetText ? { stops: Number(budgetText) } : null;
-    status('Rebalancing…');
-    const out = await guard('Rebalance', () => api.rebalance(plan, set, name, budget));
-    if (!out) return;
-    const r = out.report;
-    $('rebalance-result').textContent = `Saved ${out.view.info.name}: ${r.added} new stops, ${r.removedStops} gone, ${r.moved} moved (demand ${fmt(r.movedDemand)}), ${r.forced} forced. ${r.feasible ? 'Every limit holds.' : 'Some limits do not hold.'} ${r.notes.join(' ')}`;
-    await refreshProject();
-    await openPlan(out.view.info.name, false);
+    $('rebalance-result').textContent = '';
+    const s = await guard('Rebalance', () => api.startRebalance(plan, set, name, budget));
+    if (!s) return;
+    rebalanceRun = s;
+    showRebalance(s);
+    status(`Rebalancing ${s.parent} as ${s.planName}…`);
+    await pollRebalance(s.id);
   })();
+});
+$('rebalance-cancel').addEventListener('click', () => {
+  const s = rebalanceRun;
+  if (!s || s.state !== 'running') return;
+  void guard('Cancel rebalance', () => api.cancelRebalance(s.id));
 });
 
 // ---------------------------------------------------------------------------------------------
@@ -979,6 +1027,8 @@ async function start(): Promise<void> {
   sweepRun = null;
   sweepDrawn = -1;
   showSweep(null);
+  rebalanceRun = null;
+  showRebalance(null);
   void showProject();
 });
 

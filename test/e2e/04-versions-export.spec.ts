@@ -189,8 +189,12 @@ test('the open plan is rebalanced onto changed demand within a budget', async ({
   await page.fill('#rebalance-budget', '60');
   await page.fill('#rebalance-name', 'e2e week 2');
   await page.click('#rebalance-form button[type=submit]');
+  // The progress bar runs to the end, then the new plan opens with its report.
+  await expect(page.locator('#rebalance-progress')).toHaveAttribute('data-run-state', 'done', { timeout: 30_000 });
+  await expect(page.locator('#rebalance-progress')).toHaveAttribute('aria-valuenow', '100');
   await expect(page.locator('body')).toHaveAttribute('data-plan-name', 'e2e week 2', { timeout: 30_000 });
   await expect(page.locator('#rebalance-result')).toContainText('5 new stops');
+  await expect(page.locator('#rebalance-cancel')).toBeDisabled();
   const p = await app.call<ProjectInfo>('project');
   const plan = p.plans.find((x) => x.name === 'e2e week 2')!;
   expect(plan.parent).toBe(DEMO);

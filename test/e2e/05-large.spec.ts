@@ -3,14 +3,16 @@
  * them is drawn and the first draw is timed. The figure is recorded (annotation, stdout and
  * test-results/draw-100k.json); the hard 2 s target is checked by test/e2e/draw-bench.mjs, not
  * here (timings in tests are flaky on shared machines). Then a stop on a zone border is moved in
- * the window: the polygons, redrawn on the main side, reach the map without a reload.
+ * the window: the polygons, redrawn on the main side, reach the map without a reload. Last, a
+ * rebalance of a balanced plan runs in the background (the server answers meanwhile) and is
+ * cancelled from the keyboard with nothing saved.
  */
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { booleanPointInPolygon } from '@turf/turf';
 import { Delaunay } from 'd3-delaunay';
 import type { Feature, FeatureCollection, MultiPolygon, Polygon } from 'geojson';
 import type { ExportResult, ImportOutcome, PlanView, ProjectInfo, RunStatus } from '../../src/api/app-types.js';
-import { expect, shot, stopsCsv, test, waitRunEnd } from './fixtures.js';
+import { expect, openPlanNamed, shot, stopsCsv, test, waitRunEnd } from './fixtures.js';
 
 const N = 100_000;
 const PLAN = 'e2e 100k stops';
@@ -153,5 +155,55 @@ test('100k stops: the map redraws the zone polygons after a stop is moved across
   const undone = await app.call<PlanView>('plan', PLAN);
   await expect(map).toHaveAttribute('data-boundaries-version', String(undone.version), { timeout: 60_000 });
   expect(zonesHolding(await app.call<PlanView>('plan', PLAN), lon[index]!, lat[index]!)).toEqual([zone[index]]);
+  expect(errors).toEqual([]);
+});
+
+test('100k stops: a rebalance runs in the background with its progress bar and is cancelled', async ({ openApp, app, errors }) => {
+  test.setTimeout(120_000);
+  // The same stops with every tenth one's parcels tripled.
+  const lines = stopsCsv(N, 5).trim().split('\n');
+  const changed = lines.map((l, i) => (i > 0 && i % 10 === 0 ? l.replace(/,(\d+)$/, (_m, d: string) => `,${Number(d) * 3}`) : l));
+  const imported = await app.call<ImportOutcome>('importStops', { name: 'e2e-100k-week-2.csv', text: `${changed.join('\n')}\n` });
+  expect(imported.ok).toBe(true);
+  if (!imported.ok) return;
+  // A balanced plan: with the new demand its zones must trade stops, and a budget of one move
+  // makes the rebalance search the price of a move (dozens of assignments of 100k stops).
+  const BALANCED = 'e2e 100k balanced';
+  let r = await app.call<RunStatus>('startRun', stopSetId, { zones: 40, balance: 0.05, seed: 1 }, BALANCED);
+  for (let i = 0; i < 1200 && r.state === 'running'; i++) {
+    await new Promise((res) => setTimeout(res, 100));
+    r = await app.call<RunStatus>('runStatus', r.id);
+  }
+  expect(r.state).toBe('done');
+  const before = await app.call<ProjectInfo>('project');
+
+  const page = await openApp();
+  await openPlanNamed(page, BALANCED);
+  await expect(page.locator('body')).toHaveAttribute('data-plan-name', BALANCED);
+  await page.selectOption('#rebalance-set', String(imported.stopSet.id));
+  await page.fill('#rebalance-budget', '1');
+  await page.fill('#rebalance-name', 'e2e 100k rebalance cancelled');
+  const bar = page.locator('#rebalance-progress');
+  await page.click('#rebalance-run');
+  await expect(bar).toHaveAttribute('data-run-state', 'running');
+  await expect(page.locator('#rebalance-run')).toBeDisabled();
+  // The server answers while the rebalance is under way (it runs in a worker thread).
+  const t0 = Date.now();
+  await app.call<ProjectInfo>('project');
+  const answerMs = Date.now() - t0;
+  test.info().annotations.push({ type: 'answer-during-rebalance-ms', description: String(answerMs) });
+  expect(answerMs).toBeLessThan(5000);
+  await shot(page, '05-100k-rebalance-running');
+  // Cancel from the keyboard.
+  const cancel = page.locator('#rebalance-cancel');
+  await expect(cancel).toBeEnabled();
+  await cancel.focus();
+  await page.keyboard.press('Enter');
+  await expect(bar).toHaveAttribute('data-run-state', 'cancelled', { timeout: 5000 });
+  await expect(page.locator('#rebalance-message')).toContainText('the saved plans are unchanged');
+  await expect(cancel).toBeDisabled();
+  await expect(page.locator('#rebalance-run')).toBeEnabled();
+  const after = await app.call<ProjectInfo>('project');
+  expect(after.plans.map((p) => `${p.name}|${p.createdAt}|${p.edits}`)).toEqual(before.plans.map((p) => `${p.name}|${p.createdAt}|${p.edits}`));
   expect(errors).toEqual([]);
 });
