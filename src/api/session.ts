@@ -1,15 +1,13 @@
 import { randomUUID } from 'node:crypto';
-import { statSync } from 'node:fs';
 import path from 'node:path';
-import { writeFileAtomic } from '../io/atomic.js';
-import { assignmentsCsvChunks } from '../io/assignments-csv.js';
-import { layerGeoJsonChunks, planGeoJsonChunks } from '../io/plan-geojson.js';
 import { ImportError } from '../io/problems.js';
 import { lonLatFromVector } from '../geo/unit.js';
 import { startPlanRun, type PlanRunHandle, type WorkerFactory } from '../run/plan-run.js';
 import type { BoundariesWorkerFactory } from '../run/boundaries-run.js';
 import type { SweepWorkerFactory } from '../run/sweep-run.js';
 import { startRebalanceRun, type RebalanceWorkerFactory } from '../run/rebalance-run.js';
+import { startExportRun, type ExportWorkerFactory } from '../run/export-run.js';
+import { exportSolvedPlan } from './plan-export.js';
 import type { RebalanceOutput } from '../run/rebalance-worker.js';
 import type { WorkerRunHandle } from '../run/worker-run.js';
 import type {
@@ -32,7 +30,7 @@ import type {
 } from './app-types.js';
 import { boundariesGeoJson } from './boundaries-json.js';
 import { applyEdits, type EditedPlan } from './edited-plan.js';
-import { planLayers } from './plan-file.js';
+import type { SolvedPlan } from './plan-file.js';
 import { planArrays, planView, stopDetails } from './plan-view.js';
 import { createProject, openProject, type LoadedPlan, type ProjectHandle } from './project.js';
 import { comparePlans } from './rebalance.js';
@@ -52,13 +50,15 @@ export interface SessionOptions {
   readonly mode: 'desktop' | 'browser';
   /** How plan runs get their worker thread (default: the plan worker beside the app). */
   readonly workerFactory?: WorkerFactory;
-  /** Plans with more stops have their polygons redrawn after edits in a worker thread (default 20,000). */
+  /** Plans with more stops have their polygons redrawn after edits, and their exports made, in a worker thread (default 20,000). */
   readonly redrawBoundariesUpTo?: number;
   /** How sweeps and the redrawing of polygons get their worker threads (default: the workers beside the app). */
   readonly sweepWorkerFactory?: SweepWorkerFactory;
   readonly boundariesWorkerFactory?: BoundariesWorkerFactory;
   /** How rebalances get their worker thread (default: the rebalance worker beside the app). */
   readonly rebalanceWorkerFactory?: RebalanceWorkerFactory;
+  /** How exports of large plans get their worker thread (default: the export worker beside the app). */
+  readonly exportWorkerFactory?: ExportWorkerFactory;
 }
 
 interface RunRecord {
@@ -521,21 +521,19 @@ export class AppSession implements Api {
     return this.sweeps.rows((await this.startSweep(stopSetId, from, to, settings)).id);
   }
 
+  /**
+   * Exports a plan as edited now. Plans over the size drawn at once (redrawBoundariesUpTo) are
+   * exported in a worker thread: drawing the layers of a million stops takes seconds.
+   */
   async exportPlan(request: ExportRequest): Promise<ExportResult> {
     const p = (await this.edited(request.plan)).plan;
-    let chunks: Iterable<string>;
-    if (request.kind === 'assignments') chunks = assignmentsCsvChunks(p.stops, p.plan, p.figures);
-    else {
-      const layers = planLayers(p);
-      if (request.kind === 'zones' && !layers.boundaries) throw new AppError('usage', `the zones of plan "${p.loaded.info.name}" cannot be drawn: ${layers.notes.join('; ')}`);
-      chunks = request.kind === 'plan' ? planGeoJsonChunks(layers) : layerGeoJsonChunks(layers, request.kind);
-    }
-    if (request.file === null) {
-      const content = [...chunks].join('');
-      return { file: null, content, bytes: Buffer.byteLength(content) };
-    }
-    writeFileAtomic(request.file, chunks);
-    return { file: request.file, content: null, bytes: statSync(request.file).size };
+    const name = p.loaded.info.name;
+    if (p.stops.ids.length <= (this.options.redrawBoundariesUpTo ?? 20_000)) return exportSolvedPlan(p, name, request.kind, request.file);
+    const solved: SolvedPlan = { stops: p.stops, plan: p.plan, result: p.result, figures: p.figures, pinned: p.pinned };
+    const o = await startExportRun({ plan: solved, name, kind: request.kind, file: request.file }, this.options.exportWorkerFactory).outcome;
+    if (o.state === 'done') return o.value;
+    if (o.state === 'failed') throw new AppError(o.error.kind, o.error.message);
+    throw new AppError('cancelled', 'the export was stopped; nothing was written');
   }
 }
 
