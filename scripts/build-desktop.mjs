@@ -27,7 +27,7 @@ await Promise.all([
   esbuild.build({ ...node, entryPoints: ['src/desktop/preload.ts'], outfile: 'dist/main/preload.cjs', format: 'cjs', external: ['electron'], sourcemap: 'inline' }),
   // The desktop app's workers carry their packages inside (no node_modules lookups), so that they
   // also run unpacked from the app archive (electron-builder.yml asarUnpack).
-  ...['plan-worker', 'sweep-worker', 'boundaries-worker', 'rebalance-worker', 'export-worker'].flatMap((name) => [
+  ...['plan-worker', 'sweep-worker', 'boundaries-worker', 'rebalance-worker', 'export-worker', 'import-worker'].flatMap((name) => [
     esbuild.build({ ...selfContained, entryPoints: [`src/run/${name}.ts`], outfile: `dist/main/${name}.mjs` }),
     esbuild.build({ ...node, entryPoints: [`src/run/${name}.ts`], outfile: `dist/node/${name}.mjs`, format: 'esm', sourcemap: true }),
   ]),

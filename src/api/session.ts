@@ -1,4 +1,5 @@
 import { randomUUID } from 'node:crypto';
+import { statSync } from 'node:fs';
 import path from 'node:path';
 import { ImportError } from '../io/problems.js';
 import { lonLatFromVector } from '../geo/unit.js';
@@ -7,6 +8,8 @@ import type { BoundariesWorkerFactory } from '../run/boundaries-run.js';
 import type { SweepWorkerFactory } from '../run/sweep-run.js';
 import { startRebalanceRun, type RebalanceWorkerFactory } from '../run/rebalance-run.js';
 import { startExportRun, type ExportWorkerFactory } from '../run/export-run.js';
+import { startImportRead, type ImportWorkerFactory } from '../run/import-run.js';
+import type { StopSet } from '../io/stopset.js';
 import { exportSolvedPlan } from './plan-export.js';
 import type { RebalanceOutput } from '../run/rebalance-worker.js';
 import type { WorkerRunHandle } from '../run/worker-run.js';
@@ -36,8 +39,7 @@ import { createProject, openProject, type LoadedPlan, type ProjectHandle } from 
 import { comparePlans } from './rebalance.js';
 import { checkReport } from './report.js';
 import { SweepRuns } from './sweep-runs.js';
-import { readStopsText } from './text-import.js';
-import { readStopsBytes } from '../io/read.js';
+import { readStopsSource } from './text-import.js';
 import { withDepotsText } from './depots-text.js';
 import { readDepotsFile } from '../io/zone-files.js';
 import { ZoneDrawings, type PlanState } from './zone-drawings.js';
@@ -59,6 +61,9 @@ export interface SessionOptions {
   readonly rebalanceWorkerFactory?: RebalanceWorkerFactory;
   /** How exports of large plans get their worker thread (default: the export worker beside the app). */
   readonly exportWorkerFactory?: ExportWorkerFactory;
+  /** Stops files over this many bytes are read in a worker thread (default 4 MiB, about 100,000 stops). */
+  readonly importInWorkerOver?: number;
+  readonly importWorkerFactory?: ImportWorkerFactory;
 }
 
 interface RunRecord {
@@ -171,20 +176,32 @@ export class AppSession implements Api {
     return this.project();
   }
 
+  /**
+   * Imports stops as a new stop set, or lists the problems (nothing imported). Sources over
+   * importInWorkerOver bytes are read and checked in a worker thread; the stop set is then added
+   * to the project here.
+   */
   async importStops(source: ImportSource, options: StopFileOptions = {}): Promise<ImportOutcome> {
     const h = this.need();
-    try {
-      const summary =
-        'file' in source
-          ? await h.importStops(source.file, options)
-          : h.store.addStopSet('base64' in source ? readStopsBytes(source.name, Buffer.from(source.base64, 'base64'), options) : readStopsText(source.name, source.text, options));
-      const id = summary.id;
-      const info = (await this.project()).stopSets.find((s) => s.id === id)!;
-      return { ok: true, stopSet: info };
-    } catch (e) {
-      if (!(e instanceof ImportError)) throw e;
-      return { ok: false, file: e.file, problems: e.problems.map((p) => ({ ...p })), errorCount: e.errorCount };
+    let stops: StopSet;
+    if (sourceBytes(source) > (this.options.importInWorkerOver ?? 4 * 2 ** 20)) {
+      const o = await startImportRead({ source, options }, this.options.importWorkerFactory).outcome;
+      if (o.state === 'failed') throw new AppError(o.error.kind, o.error.message);
+      if (o.state === 'cancelled') throw new AppError('cancelled', 'the import was stopped; nothing was imported');
+      if (!o.value.ok) return { ok: false, file: o.value.file, problems: o.value.problems, errorCount: o.value.errorCount };
+      if (this.handle !== h) throw new AppError('project', 'the project was closed before the stops could be imported into it');
+      stops = o.value.stops;
+    } else {
+      try {
+        stops = readStopsSource(source, options);
+      } catch (e) {
+        if (!(e instanceof ImportError)) throw e;
+        return { ok: false, file: e.file, problems: e.problems.map((p) => ({ ...p })), errorCount: e.errorCount };
+      }
     }
+    const id = h.store.addStopSet(stops).id;
+    const info = (await this.project()).stopSets.find((s) => s.id === id)!;
+    return { ok: true, stopSet: info };
   }
 
   // ---- plan runs
@@ -535,6 +552,18 @@ export class AppSession implements Api {
     if (o.state === 'failed') throw new AppError(o.error.kind, o.error.message);
     throw new AppError('cancelled', 'the export was stopped; nothing was written');
   }
+}
+
+/** About how many bytes a source holds (a file's size; 0 for a file that cannot be seen: reading it reports the problem at once). */
+function sourceBytes(source: ImportSource): number {
+  if ('file' in source) {
+    try {
+      return statSync(source.file).size;
+    } catch {
+      return 0;
+    }
+  }
+  return 'base64' in source ? (source.base64.length * 3) / 4 : source.text.length;
 }
 
 function planInfoOf(p: ProjectPlanRow): PlanInfo {

@@ -1,7 +1,8 @@
 import { parseStopsCsv } from '../io/csv.js';
 import { parseStopsGeoJson } from '../io/geojson-stops.js';
-import { formatOf } from '../io/read.js';
+import { formatOf, readStopsBytes, readStopsFile } from '../io/read.js';
 import type { StopSet } from '../io/stopset.js';
+import type { ImportSource } from './app-types.js';
 import type { StopFileOptions } from './types.js';
 
 /**
@@ -12,4 +13,11 @@ export function readStopsText(name: string, text: string, options: StopFileOptio
   const body = text.startsWith('\uFEFF') ? text.slice(1) : text;
   const format = options.format ?? formatOf(name, body);
   return format === 'geojson' ? parseStopsGeoJson(body, name, options) : parseStopsCsv(body, name, options);
+}
+
+/** Stops from what the window imports: a file on the main side, a file's bytes (base64) or its text. Throws ImportError. */
+export function readStopsSource(source: ImportSource, options: StopFileOptions = {}): StopSet {
+  if ('file' in source) return readStopsFile(source.file, options);
+  if ('base64' in source) return readStopsBytes(source.name, Buffer.from(source.base64, 'base64'), options);
+  return readStopsText(source.name, source.text, options);
 }
