@@ -87,6 +87,8 @@ export function createHttpApi(token: string, base = ''): Api {
     sweepStatus: c('sweepStatus'),
     cancelSweep: c('cancelSweep'),
     exportPlan: c('exportPlan'),
+    mapSettings: c('mapSettings'),
+    saveMapSettings: c('saveMapSettings'),
   } as Api;
 }
 

@@ -10,9 +10,10 @@
  */
 import 'leaflet/dist/leaflet.css';
 import './style.css';
-import type { Api, PlanArrays, PlanView, ProjectInfo, RebalanceStatus, RunSettings, RunStatus, StopDetails, SweepStatus } from '../src/api/app-types.js';
+import type { Api, MapSettings, PlanArrays, PlanView, ProjectInfo, RebalanceStatus, RunSettings, RunStatus, StopDetails, SweepStatus } from '../src/api/app-types.js';
 import type { InputProblem, PlanComparison, SweepRow, ZoneRow } from '../src/api/types.js';
 import type { AppEvents } from '../src/desktop/channels.js';
+import { isTileUrl } from '../src/api/tile-url.js';
 import { createHttpApi, errorMessage } from './api-client.js';
 import { CentreEditor } from './centre-edit.js';
 import { MapView } from './map-view.js';
@@ -936,41 +937,52 @@ $('export-png').addEventListener('click', () => {
 });
 
 // ---------------------------------------------------------------------------------------------
-// Map settings (online tiles), kept in localStorage
+// Map settings (online tiles), kept on the main side for this user (desktop and browser mode alike)
 
-const TILE_KEY = 'zoneplan.tiles';
+/** Where earlier versions of the window kept the tile setting (per address; carried over once). */
+const OLD_TILE_KEY = 'zoneplan.tiles';
+
+function showTiles(tiles: MapSettings['tiles']): void {
+  ($('tiles-url') as HTMLInputElement).value = tiles?.url ?? '';
+  ($('tiles-attr') as HTMLInputElement).value = tiles?.attribution ?? '';
+  mapView.setTiles(tiles?.url ?? '', tiles?.attribution ?? '');
+}
+
 $('tiles-form').addEventListener('submit', (e) => {
   e.preventDefault();
-  const url = ($('tiles-url') as HTMLInputElement).value;
-  const attr = ($('tiles-attr') as HTMLInputElement).value;
-  if (url && !/^https:\/\/.+\{z\}.+\{x\}.+\{y\}/.test(url)) return status('The tile URL must be https and contain {z}, {x} and {y}', true);
-  mapView.setTiles(url, attr);
-  try {
-    localStorage.setItem(TILE_KEY, JSON.stringify({ url, attr }));
-  } catch {
-    /* storage unavailable */
-  }
-  status(url ? 'Online tiles on' : 'Offline outlines');
+  const url = ($('tiles-url') as HTMLInputElement).value.trim();
+  const attribution = ($('tiles-attr') as HTMLInputElement).value;
+  if (url && !isTileUrl(url)) return status('The tile URL must be https and contain {z}, {x} and {y}', true);
+  void (async () => {
+    const saved = await guard('Map settings', () => api.saveMapSettings({ tiles: url ? { url, attribution } : null }));
+    if (!saved) return;
+    showTiles(saved.tiles);
+    status(saved.tiles ? 'Online tiles on' : 'Offline outlines');
+  })();
 });
 $('tiles-off').addEventListener('click', () => {
-  ($('tiles-url') as HTMLInputElement).value = '';
-  mapView.setTiles('', '');
-  try {
-    localStorage.removeItem(TILE_KEY);
-  } catch {
-    /* storage unavailable */
-  }
-  status('Offline outlines');
+  void (async () => {
+    const saved = await guard('Map settings', () => api.saveMapSettings({ tiles: null }));
+    if (!saved) return;
+    showTiles(null);
+    status('Offline outlines');
+  })();
 });
-try {
-  const saved = JSON.parse(localStorage.getItem(TILE_KEY) ?? 'null') as { url: string; attr: string } | null;
-  if (saved?.url) {
-    ($('tiles-url') as HTMLInputElement).value = saved.url;
-    ($('tiles-attr') as HTMLInputElement).value = saved.attr;
-    mapView.setTiles(saved.url, saved.attr);
+
+/** The saved map settings; a tile setting an earlier window kept in this address's storage is carried over once. */
+async function loadMapSettings(): Promise<void> {
+  let settings = await guard('Map settings', () => api.mapSettings());
+  if (!settings) return;
+  try {
+    const old = JSON.parse(localStorage.getItem(OLD_TILE_KEY) ?? 'null') as { url?: unknown; attr?: unknown } | null;
+    if (!settings.tiles && old && typeof old.url === 'string' && isTileUrl(old.url)) {
+      settings = (await guard('Map settings', () => api.saveMapSettings({ tiles: { url: old.url as string, attribution: typeof old.attr === 'string' ? old.attr : '' } }))) ?? settings;
+    }
+    localStorage.removeItem(OLD_TILE_KEY);
+  } catch {
+    /* storage unavailable: nothing to carry over */
   }
-} catch {
-  /* storage unavailable */
+  showTiles(settings.tiles);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -1012,7 +1024,7 @@ function clearPlan(): void {
 async function start(): Promise<void> {
   renderZoneTable();
   showRun(null);
-  await showProject();
+  await Promise.all([showProject(), loadMapSettings()]);
   // Two frames so the canvases have painted before the window reports itself ready.
   requestAnimationFrame(() => requestAnimationFrame(() => (document.body.dataset['ready'] = '1')));
 }

@@ -139,6 +139,12 @@ export interface RunStatus {
   readonly planName: string;
 }
 
+/** The map's settings, shared by the desktop window and browser mode. */
+export interface MapSettings {
+  /** An online tile layer (an https URL with {z}, {x} and {y}) and its attribution; null: the offline outlines. */
+  readonly tiles: { readonly url: string; readonly attribution: string } | null;
+}
+
 /** A rebalance under way: a plan rebalanced onto a new stop set in a worker thread, saved when done. */
 export interface RebalanceStatus {
   readonly id: string;
@@ -242,4 +248,7 @@ export interface Api {
   /** Stops a sweep at once; the rows done before stay, nothing is saved. */
   cancelSweep(id: string): Promise<SweepStatus>;
   exportPlan(request: ExportRequest): Promise<ExportResult>;
+  /** The map settings kept for this user (online tiles). */
+  mapSettings(): Promise<MapSettings>;
+  saveMapSettings(settings: MapSettings): Promise<MapSettings>;
 }

@@ -11,6 +11,7 @@ import { startExportRun, type ExportWorkerFactory } from '../run/export-run.js';
 import { startImportRead, type ImportWorkerFactory } from '../run/import-run.js';
 import type { StopSet } from '../io/stopset.js';
 import { exportSolvedPlan } from './plan-export.js';
+import { MapSettingsStore } from './map-settings.js';
 import type { RebalanceOutput } from '../run/rebalance-worker.js';
 import type { WorkerRunHandle } from '../run/worker-run.js';
 import type {
@@ -22,6 +23,7 @@ import type {
   PlanArrays,
   PlanEdit,
   PlanInfo,
+  MapSettings,
   PlanView,
   ProjectInfo,
   RebalanceStatus,
@@ -64,6 +66,8 @@ export interface SessionOptions {
   /** Stops files over this many bytes are read in a worker thread (default 4 MiB, about 100,000 stops). */
   readonly importInWorkerOver?: number;
   readonly importWorkerFactory?: ImportWorkerFactory;
+  /** Where the map settings are kept (a JSON file in the user's data folder); none: for this session only. */
+  readonly mapSettingsFile?: string;
 }
 
 interface RunRecord {
@@ -98,12 +102,14 @@ export class AppSession implements Api {
   private readonly sweeps: SweepRuns;
   private readonly loaded = new Map<string, LoadedPlan>();
   private readonly stopSetFacts = new Map<number, { totalDemand: number; bbox: [number, number, number, number] }>();
+  private readonly mapSettingsStore: MapSettingsStore;
   /** The plan the window looked at last (the menu's Export uses it). */
   lastPlan: string | null = null;
 
   constructor(private readonly options: SessionOptions) {
     this.drawings = new ZoneDrawings(options.boundariesWorkerFactory, options.redrawBoundariesUpTo);
     this.sweeps = new SweepRuns(options.sweepWorkerFactory);
+    this.mapSettingsStore = new MapSettingsStore(options.mapSettingsFile ?? null);
   }
 
   // ---- the project
@@ -536,6 +542,14 @@ export class AppSession implements Api {
 
   async sweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<readonly SweepRow[]> {
     return this.sweeps.rows((await this.startSweep(stopSetId, from, to, settings)).id);
+  }
+
+  async mapSettings(): Promise<MapSettings> {
+    return this.mapSettingsStore.get();
+  }
+
+  async saveMapSettings(settings: MapSettings): Promise<MapSettings> {
+    return this.mapSettingsStore.set(settings);
   }
 
   /**

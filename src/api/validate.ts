@@ -4,6 +4,7 @@
  * an ArgsError that says which argument and why.
  */
 import { z } from 'zod';
+import { isTileUrl } from './tile-url.js';
 import { MAX_BODY_BYTES, type ApiMethod } from './wire.js';
 
 /** Arguments that do not fit the method: a usage error, never a fault. */
@@ -73,6 +74,15 @@ const exportRequest = z.strictObject({
   file: filePath.nullable(),
 });
 
+const mapSettings = z.strictObject({
+  tiles: z
+    .strictObject({
+      url: text(2000).refine((s) => isTileUrl(s.trim()), 'must be an https URL with {z}, {x} and {y}'),
+      attribution: text(500),
+    })
+    .nullable(),
+});
+
 const runId = text(100).refine((s) => /^[A-Za-z0-9-]+$/.test(s), 'must be a run id');
 const stopSetId = whole(1, 2 ** 31 - 1);
 const sweepArgs = z
@@ -107,6 +117,8 @@ export const ARG_SCHEMAS: { readonly [M in ApiMethod]: z.ZodType<readonly unknow
   sweepStatus: z.tuple([runId]),
   cancelSweep: z.tuple([runId]),
   exportPlan: z.tuple([exportRequest]),
+  mapSettings: z.tuple([]),
+  saveMapSettings: z.tuple([mapSettings]),
 };
 
 function isApiMethod(name: string): name is ApiMethod {

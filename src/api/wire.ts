@@ -57,6 +57,8 @@ export const API_METHODS = [
   'sweepStatus',
   'cancelSweep',
   'exportPlan',
+  'mapSettings',
+  'saveMapSettings',
 ] as const;
 
 export type ApiMethod = (typeof API_METHODS)[number];

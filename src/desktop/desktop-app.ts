@@ -1,6 +1,7 @@
 import path from 'node:path';
 import type { ProjectInfo } from '../api/app-types.js';
 import { ensureDemoProject } from '../api/demo.js';
+import { MAP_SETTINGS_FILE } from '../api/map-settings.js';
 import { AppSession } from '../api/session.js';
 import { toWireError } from '../api/wire-error.js';
 import { APP_INDEX_URL, APP_ORIGIN, registerAppScheme, serveAppFiles } from './app-protocol.js';
@@ -38,7 +39,7 @@ export async function startDesktop(electron: ElectronLike, options: DesktopOptio
   serveAppFiles(protocol, path.join(options.distDir, 'renderer'));
   const dataDir = app.getPath('userData');
   const recent = new RecentProjects(path.join(dataDir, 'recent-projects.json'));
-  const session = new AppSession({ mode: 'desktop' });
+  const session = new AppSession({ mode: 'desktop', mapSettingsFile: path.join(dataDir, MAP_SETTINGS_FILE) });
   const first = options.project ?? recent.latest() ?? (await ensureDemoProject(dataDir));
   await session.open(first);
   recent.add(first);

@@ -1,6 +1,7 @@
 import path from 'node:path';
 import { appRoot, userDataDir } from '../api/app-paths.js';
 import { ensureDemoProject } from '../api/demo.js';
+import { MAP_SETTINGS_FILE } from '../api/map-settings.js';
 import { AppSession } from '../api/session.js';
 import { startServer, type RunningServer } from './server.js';
 
@@ -14,8 +15,9 @@ export interface BrowserModeOptions {
 
 /** Starts browser mode: a session on the project and the local server for it. */
 export async function startBrowserMode(options: BrowserModeOptions = {}): Promise<{ server: RunningServer; session: AppSession; stop: () => Promise<void> }> {
-  const file = options.project ?? (await ensureDemoProject(options.dataDir ?? userDataDir()));
-  const session = new AppSession({ mode: 'browser' });
+  const dataDir = options.dataDir ?? userDataDir();
+  const file = options.project ?? (await ensureDemoProject(dataDir));
+  const session = new AppSession({ mode: 'browser', mapSettingsFile: path.join(dataDir, MAP_SETTINGS_FILE) });
   await session.open(file);
   try {
     const server = await startServer({ session, staticDir: options.staticDir ?? path.join(appRoot(), 'dist', 'renderer'), port: options.port ?? 0 });

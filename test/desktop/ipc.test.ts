@@ -48,6 +48,8 @@ const GOOD: { [M in ApiMethod]: unknown[] } = {
   sweepStatus: ['0f8fad5b-d9cb-469f-a165-70867728950e'],
   cancelSweep: ['0f8fad5b-d9cb-469f-a165-70867728950e'],
   exportPlan: [{ plan: 'week 1', kind: 'plan', file: null }],
+  mapSettings: [],
+  saveMapSettings: [{ tiles: { url: 'https://tiles.example.org/{z}/{x}/{y}.png', attribution: '© example' } }],
 };
 
 /** Argument lists each method must refuse. */
@@ -192,6 +194,10 @@ describe('ipc: every method handled, every argument validated', () => {
       ['sweepStatus', ['../../etc']],
       ['cancelSweep', ['']],
       ['exportPlan', [{ plan: 'p', kind: 'pdf', file: null }]],
+      ['saveMapSettings', [{ tiles: { url: 'http://tiles.example.org/{z}/{x}/{y}.png', attribution: '' } }]],
+      ['saveMapSettings', [{ tiles: { url: 'https://tiles.example.org/tile.png', attribution: '' } }]],
+      ['saveMapSettings', [{ tiles: null, theme: 'dark' }]],
+      ['mapSettings', ['extra']],
       ['runStatus', ['../../etc']],
       ['plan', ['']],
     ];
