@@ -12,6 +12,11 @@ const PNG = Buffer.from('iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR
 const URL_A = 'https://tiles-a.example.org/{z}/{x}/{y}.png';
 const URL_B = 'https://tiles-b.example.org/{z}/{x}/{y}.png';
 
+/** The page's storage, as the functions run in the page see it (the specs are typed without the DOM). */
+interface PageStorage {
+  readonly localStorage: { getItem(key: string): string | null; setItem(key: string, value: string): void };
+}
+
 test.describe.configure({ mode: 'serial' });
 
 test('tiles set in the panel are used by the map and kept after a reload', async ({ openApp, app, page, errors }) => {
@@ -52,12 +57,12 @@ test('a tile setting kept in the page storage by an earlier window is carried ov
   expect((await app.call<MapSettings>('mapSettings')).tiles).toBeNull();
   await page.goto(app.url);
   await page.waitForSelector('body[data-ready="1"]');
-  await page.evaluate((url) => localStorage.setItem('zoneplan.tiles', JSON.stringify({ url, attr: '© Tiles B (test)' })), URL_B);
+  await page.evaluate((url) => (globalThis as unknown as PageStorage).localStorage.setItem('zoneplan.tiles', JSON.stringify({ url, attr: '© Tiles B (test)' })), URL_B);
   await page.reload();
   await page.waitForSelector('body[data-ready="1"]');
   await expect(page.locator('#tiles-url')).toHaveValue(URL_B);
   await expect.poll(async () => (await app.call<MapSettings>('mapSettings')).tiles).toEqual({ url: URL_B, attribution: '© Tiles B (test)' });
-  expect(await page.evaluate(() => localStorage.getItem('zoneplan.tiles'))).toBeNull();
+  expect(await page.evaluate(() => (globalThis as unknown as PageStorage).localStorage.getItem('zoneplan.tiles'))).toBeNull();
   await app.call('saveMapSettings', { tiles: null });
   expect(errors).toEqual([]);
 });
