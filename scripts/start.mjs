@@ -3,7 +3,7 @@
 // Electron is found by its files, never by require('electron'): that throws without the
 // runtime, and newer versions try to download it first.
 import { createRequire } from 'node:module';
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync, readFileSync, realpathSync } from 'node:fs';
 import { spawn } from 'node:child_process';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -32,7 +32,18 @@ function run(cmd, args) {
   child.on('exit', (code, signal) => process.exit(code ?? (signal ? 0 : 1)));
 }
 
-if (import.meta.url === `file://${process.argv[1]}`) {
+/** Whether this file is the script node was started with (not imported): by real path, so that
+ * spaces, non-ASCII names, Windows paths and symbolic links compare as the same file. */
+function isMain() {
+  if (!process.argv[1]) return false;
+  try {
+    return realpathSync(process.argv[1]) === realpathSync(fileURLToPath(import.meta.url));
+  } catch {
+    return false;
+  }
+}
+
+if (isMain()) {
   const args = process.argv.slice(2).filter((a) => a !== '--browser');
   const found = findElectronBinary();
   if (found.ok && !process.argv.includes('--browser')) run(found.exe, ['.', ...args]);

@@ -1,4 +1,5 @@
-import { chmodSync, writeFileSync } from 'node:fs';
+import { spawn } from 'node:child_process';
+import { chmodSync, mkdirSync, symlinkSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 // @ts-expect-error: a plain ES module script without type declarations
@@ -23,4 +24,44 @@ describe('npm start: finding the Electron runtime by its files', () => {
     chmodSync(exe, 0o755);
     expect(find({ ELECTRON_OVERRIDE_DIST_PATH: dir })).toEqual({ ok: true, exe });
   });
+});
+
+describe('npm start without the Electron runtime', () => {
+  it('says so in one line and starts browser mode, also from a path with a space and a link in it', async () => {
+    // The project reached through a folder whose name has a space, by a symbolic link.
+    const outer = path.join(tempDir('start'), 'my projects');
+    mkdirSync(outer);
+    const link = path.join(outer, 'zoneplan');
+    symlinkSync(path.resolve('.'), link, 'dir');
+    const child = spawn(process.execPath, [path.join(link, 'scripts', 'start.mjs')], {
+      env: { ...process.env, ZONEPLAN_DATA_DIR: tempDir('start-data'), PORT: '0' },
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
+    let out = '';
+    let err = '';
+    child.stdout.on('data', (b: Buffer) => (out += b.toString()));
+    child.stderr.on('data', (b: Buffer) => (err += b.toString()));
+    try {
+      const url = await new Promise<string>((resolve, reject) => {
+        const timer = setTimeout(() => reject(new Error(`no URL within 30 s\nstdout: ${out}\nstderr: ${err}`)), 30_000);
+        child.stdout.on('data', () => {
+          const line = out.split('\n').find((l) => /^http:\/\/127\.0\.0\.1:\d+\/\?token=\S+$/.test(l.trim()));
+          if (line) {
+            clearTimeout(timer);
+            resolve(line.trim());
+          }
+        });
+        child.on('exit', (code) => reject(new Error(`start exited (${code})\nstdout: ${out}\nstderr: ${err}`)));
+      });
+      const lines = err.trim().split('\n').filter((l) => l.startsWith('[start]'));
+      expect(lines).toHaveLength(1);
+      expect(lines[0]).toMatch(/^\[start\] .*(not installed|missing).*; starting browser mode instead/);
+      // The server answers with the token from the printed URL.
+      const u = new URL(url);
+      const res = await fetch(`${u.origin}/api/call/mode`, { method: 'POST', headers: { 'x-zoneplan-token': u.searchParams.get('token')!, 'content-type': 'application/json' }, body: JSON.stringify({ args: [] }) });
+      expect(await res.json()).toEqual({ ok: true, value: 'browser' });
+    } finally {
+      child.kill('SIGTERM');
+    }
+  }, 60_000);
 });
