@@ -83,7 +83,8 @@ export class MapView {
     if (this.tiles) this.tiles.remove();
     this.tiles = null;
     if (url.trim()) {
-      this.tiles = L.tileLayer(url.trim(), { attribution: attribution.trim() || url.trim(), maxZoom: 19 }).addTo(this.map);
+      // Leaflet shows the attribution as HTML: what the user typed is shown as text.
+      this.tiles = L.tileLayer(url.trim(), { attribution: escapeHtml(attribution.trim() || url.trim()), maxZoom: 19 }).addTo(this.map);
       this.basemap.remove();
     } else if (!this.map.hasLayer(this.basemap)) {
       this.basemap.addTo(this.map);
@@ -158,7 +159,10 @@ export class MapView {
       m.on('click', () => this.cb.onCentreSelect(z.zone));
       this.markers.set(z.zone, m);
       // Labels stay on up to 16 zones; with more they would cover each other, so they show on hover and focus.
-      m.bindTooltip(`${z.name ?? `Zone ${z.zone}`}: ${fmt(z.stops)} stops · ${fmt(z.demand)}`, { permanent: zones.length <= 16, direction: 'top', offset: [0, -d / 2], className: 'zp-centre-label' });
+      // The label as text: zone names come from depot files, never read as HTML.
+      const label = document.createElement('span');
+      label.textContent = `${z.name ?? `Zone ${z.zone}`}: ${fmt(z.stops)} stops · ${fmt(z.demand)}`;
+      m.bindTooltip(label, { permanent: zones.length <= 16, direction: 'top', offset: [0, -d / 2], className: 'zp-centre-label' });
       m.on('dragend', () => {
         const ll = m.getLatLng();
         this.cb.onCentreDrop(z.zone, ll.lng, ll.lat);
@@ -281,7 +285,14 @@ export class MapView {
     ctx.textAlign = 'left';
     ctx.font = '11px sans-serif';
     ctx.fillStyle = '#222222';
-    ctx.fillText('Great-circle (straight-line) distances, not drive times. Basemap: Natural Earth.', 8, out.height - 10);
+    // Online tiles cannot be copied into the image (another site's pixels): the note says they are left out.
+    const basemap = this.tiles ? 'Online tiles left out of this image.' : 'Basemap: Natural Earth.';
+    ctx.fillText(`Great-circle (straight-line) distances, not drive times. ${basemap}`, 8, out.height - 10);
     return new Promise((resolve, reject) => out.toBlob((b) => (b ? resolve(b) : reject(new Error('The map could not be drawn to PNG.'))), 'image/png'));
   }
+}
+
+/** Text for a place Leaflet fills as HTML. */
+export function escapeHtml(s: string): string {
+  return s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 }

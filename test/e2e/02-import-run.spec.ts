@@ -111,7 +111,9 @@ test('a fixed depots file chosen in the plan panel pins the first zone at the de
   await page.fill('#run-zones', '4');
   await page.fill('#run-balance', '');
   await page.fill('#run-name', 'e2e depot');
-  await page.setInputFiles('#run-depots', writeTemp('e2e-depots.csv', `id,lat,lon\nCentral hub,${lat},${lon}\n`));
+  // The depot's name carries markup: the map shows it as text.
+  const hub = 'Central <b>hub</b> & yard';
+  await page.setInputFiles('#run-depots', writeTemp('e2e-depots.csv', `id,lat,lon\n${hub},${lat},${lon}\n`));
   await expect(page.locator('#run-depots-clear')).toBeEnabled();
   await page.click('#run-start');
   expect(await waitRunEnd(page)).toBe('done');
@@ -120,6 +122,10 @@ test('a fixed depots file chosen in the plan panel pins the first zone at the de
   expect(view.zones[0]!.centre[0]).toBeCloseTo(lon, 6);
   expect(view.zones[0]!.centre[1]).toBeCloseTo(lat, 6);
   expect(view.zones.slice(1).every((z) => !z.fixed)).toBe(true);
+  expect(view.zones[0]!.name).toBe(hub);
+  const label = page.locator('.zp-centre-label', { hasText: 'Central' });
+  await expect(label).toContainText(`${hub}:`);
+  await expect(label.locator('b')).toHaveCount(0);
   await page.click('#run-depots-clear');
   await expect(page.locator('#run-depots-clear')).toBeDisabled();
   expect(errors).toEqual([]);

@@ -33,6 +33,11 @@ test('tiles set in the panel are used by the map and kept after a reload', async
   expect((await app.call<MapSettings>('mapSettings')).tiles).toBeNull();
   // Taken from the keyboard.
   await page.fill('#tiles-url', URL_A);
+  // Markup typed into the attribution is shown as text.
+  await page.fill('#tiles-attr', '<i>x</i>');
+  await page.press('#tiles-attr', 'Enter');
+  await expect(page.locator('.leaflet-control-attribution')).toContainText('<i>x</i>');
+  await expect(page.locator('.leaflet-control-attribution i')).toHaveCount(0);
   await page.fill('#tiles-attr', '© Tiles A (test)');
   await page.press('#tiles-attr', 'Enter');
   await expect.poll(async () => (await app.call<MapSettings>('mapSettings')).tiles).toEqual({ url: URL_A, attribution: '© Tiles A (test)' });
