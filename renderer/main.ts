@@ -648,7 +648,7 @@ async function renderComparison(): Promise<void> {
 /** The rebalance shown in the Versions panel (null: none, or the project changed since). */
 let rebalanceRun: RebalanceStatus | null = null;
 
-const REBALANCE_PHASES: { readonly [phase: string]: string } = { start: 'starting', rebalance: 'assigning', boundaries: 'drawing the zones', saving: 'saving', done: 'done' };
+const REBALANCE_PHASES: { readonly [phase: string]: string } = { start: 'starting', rebalance: 'assigning', boundaries: 'drawing the zones', done: 'done' };
 
 /** The rebalance's progress bar, message and buttons. */
 function showRebalance(s: RebalanceStatus | null): void {

@@ -150,7 +150,7 @@ export interface RebalanceStatus {
   readonly id: string;
   readonly state: RunState;
   readonly fraction: number;
-  /** 'start', 'rebalance' (the assignments), 'boundaries' (drawing the zones), 'saving', 'done'. */
+  /** 'start', 'rebalance' (the assignments), 'boundaries' (drawing the zones), 'done'. */
   readonly phase: string;
   readonly message: string | null;
   /** The plan rebalanced, and the name the new plan is saved under when done. */

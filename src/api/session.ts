@@ -452,7 +452,6 @@ export class AppSession implements Api {
       }
       try {
         if (this.handle !== h) throw new AppError('project', `the project was closed before plan "${name}" could be saved in it`);
-        status.phase = 'saving';
         await h.savePlan(o.value.solved, name, { parent, boundaries: o.value.boundaries });
         Object.assign(status, { state: 'done', fraction: 1, phase: 'done', report: o.value.report });
         return null;
