@@ -143,7 +143,7 @@ export function validateArgs(method: string, args: unknown): readonly unknown[] 
  */
 export function refuseFilePaths(method: string, args: readonly unknown[]): void {
   const refuse = (what: string): never => {
-    throw new ArgsError(method, [`browser mode takes no file paths of this machine (${what}); choose or drop the file in the window instead`]);
+    throw new ArgsError(method, [`the window takes no file paths of this machine (${what}); choose or drop the file in the window instead`]);
   };
   const has = (o: unknown, key: string): boolean => typeof o === 'object' && o !== null && key in o && (o as Record<string, unknown>)[key] != null;
   if (method === 'newProject' || method === 'openProject') refuse('a project file');

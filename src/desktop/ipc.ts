@@ -1,5 +1,5 @@
 import type { Api } from '../api/app-types.js';
-import { validateArgs } from '../api/validate.js';
+import { refuseFilePaths, validateArgs } from '../api/validate.js';
 import { toWireError } from '../api/wire-error.js';
 import { API_METHODS, type WireReply } from '../api/wire.js';
 import { channelOf } from './channels.js';
@@ -25,6 +25,9 @@ export function registerIpc(ipcMain: IpcMainLike, session: Api, trusted: (frame:
       if (!trusted(event.senderFrame)) return { ok: false, error: { kind: 'usage', message: 'refused: the call does not come from the Zoneplan window' } };
       try {
         const checked = validateArgs(method, args);
+        // The window names no file of this machine: the main side's dialogs and menus do (a
+        // page that went wrong could otherwise read or overwrite any file the user can).
+        refuseFilePaths(method, checked);
         const fn = session[method] as (...a: unknown[]) => Promise<unknown>;
         return { ok: true, value: await fn.apply(session, [...checked]) };
       } catch (e) {

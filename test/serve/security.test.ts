@@ -277,7 +277,7 @@ describe('browser-mode server: the API', () => {
     ] as [string, unknown[]][]) {
       const a = await call(server.port, method, args);
       expect(a.status, method).toBe(400);
-      expect(json(a).error!.message, method).toMatch(/browser mode takes no file paths/);
+      expect(json(a).error!.message, method).toMatch(/the window takes no file paths/);
     }
     expect(existsSync(target)).toBe(false);
     expect(existsSync(path.join(dir, 'new.zoneplan'))).toBe(false);
