@@ -8,6 +8,7 @@ import { feature } from 'topojson-client';
 import type { GeometryCollection, Topology } from 'topojson-specification';
 import type { FeatureCollection, Geometry, Position } from 'geojson';
 import countriesTopo from 'world-atlas/countries-110m.json';
+import { LAND_COLOUR, OCEAN_COLOUR } from './palette.js';
 
 /**
  * world-atlas rings that cross the antimeridian (Russia, Fiji, ...) would be drawn by Leaflet as
@@ -29,8 +30,7 @@ export function unwrapAntimeridian<G extends Geometry>(fc: FeatureCollection<G>)
   return { ...fc, features: fc.features.map((f) => (f.geometry ? { ...f, geometry: fix(f.geometry) as G } : f)) };
 }
 
-export const OCEAN_COLOUR = '#dfe9f0';
-export const LAND_COLOUR = '#f4f1ea';
+export { LAND_COLOUR, OCEAN_COLOUR };
 
 export function offlineBasemap(renderer: L.Renderer): L.GeoJSON {
   const topo = countriesTopo as unknown as Topology<{ countries: GeometryCollection }>;

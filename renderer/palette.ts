@@ -1,30 +1,37 @@
 /**
  * Zone colours: a palette of our own for Zoneplan (not taken from any planning product).
  *
- * How it was chosen: neighbouring zone numbers alternate strongly in lightness (dark, light,
- * dark, ...), because a lightness difference survives every common colour-vision deficiency
- * (protan, deutan, tritan) and greyscale printing, while hue differences alone may not. The
- * hues lean on the blue-orange/yellow axis, which red-green colour-blind viewers still see,
- * and the one green is set far in lightness from the red-browns it could be confused with. Stops
- * are drawn small, so the colours are fairly saturated. Beyond 12 zones colours must repeat:
- * `assignZoneColours` then gives each zone the first colour that none of its nearest
- * neighbouring zones has (greedy colouring over centre distance), so that touching zones still
- * differ; the zone number on each centre and in the table tells repeated colours apart.
+ * How it was chosen: by scripts/palette-search.mjs (deterministic; the test checks that this is
+ * its answer). Neighbouring zone numbers alternate in lightness (dark slots at CIELAB L* 25-50,
+ * light ones at 60-82), because a lightness difference survives every common colour-vision
+ * deficiency and greyscale printing; every colour is colourful (chroma at least 30) and keeps
+ * away from the basemap's land and ocean; and among such palettes the search makes the closest
+ * pair as far apart as it can for normal, protan, deutan and tritan vision at once (simulated
+ * as Machado, Oliveira and Fernandes 2009, at full severity; CIEDE2000 differences). Its closest
+ * pair is about 15 apart in the worst of the four views, where the palette before it had two
+ * colours 0.9 apart for deutan vision. Beyond 12 zones colours must repeat: `assignZoneColours`
+ * then gives each zone the first colour that none of its nearest neighbouring zones has
+ * (greedy colouring over centre distance), so that touching zones still differ; the zone number
+ * on each centre and in the table tells repeated colours apart.
  */
 export const ZONE_COLOURS: readonly string[] = [
-  '#1f5fa0', // deep blue
-  '#f0a830', // amber
-  '#6b2d8c', // deep violet
-  '#8fd0ea', // sky
-  '#8a3b12', // rust
-  '#f5df4d', // yellow
-  '#0e5a55', // dark teal
-  '#f3a0b8', // rose
-  '#55555f', // slate
-  '#b9e3a0', // pale green
-  '#c2410c', // burnt orange
-  '#c9b8f0', // lavender
+  '#447744', // fern
+  '#889922', // olive
+  '#5500aa', // indigo
+  '#bb77dd', // orchid
+  '#990033', // claret
+  '#00cc99', // mint
+  '#4444ff', // cobalt
+  '#aadd00', // lime
+  '#884477', // mulberry
+  '#ff7788', // coral
+  '#224400', // moss
+  '#ffaaff', // pink
 ];
+
+/** The offline basemap's sea and land (renderer/basemap.ts): the zone colours keep away from both. */
+export const OCEAN_COLOUR = '#dfe9f0';
+export const LAND_COLOUR = '#f4f1ea';
 
 /** Palette index per zone label for the open plan (empty: by label order). */
 let assigned = new Map<number, number>();
