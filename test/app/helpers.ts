@@ -38,3 +38,19 @@ export async function emptySession(options: Partial<SessionOptions> = {}): Promi
   await session.open(file);
   return { session, dir, file };
 }
+
+/**
+ * Watches this thread with a 10 ms timer: the longest time between two ticks is how long the
+ * thread was held (a solve on it would show as one long gap). stop() ends the watch.
+ */
+export function watchThread(): { readonly ticks: number; readonly longestGapMs: number; stop(): void } {
+  let last = performance.now();
+  const w = { ticks: 0, longestGapMs: 0, stop: () => clearInterval(timer) };
+  const timer = setInterval(() => {
+    const t = performance.now();
+    w.longestGapMs = Math.max(w.longestGapMs, t - last);
+    last = t;
+    w.ticks++;
+  }, 10);
+  return w;
+}

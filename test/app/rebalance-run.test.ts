@@ -15,7 +15,7 @@ import { readStopsText } from '../../src/api/text-import.js';
 import type { StopSet } from '../../src/io/stopset.js';
 import { rebalanceWorker } from '../../src/run/rebalance-run.js';
 import type { RebalanceJob } from '../../src/run/rebalance-worker.js';
-import { emptySession, stopsCsv, tempDir } from './helpers.js';
+import { emptySession, stopsCsv, tempDir, watchThread } from './helpers.js';
 
 const N = 20_000;
 let session: AppSession;
@@ -58,13 +58,7 @@ describe('AppSession: the rebalance runs in a worker thread', () => {
   it('keeps the thread free, rises to done, and saves the plan the rebalance gives on this thread', async () => {
     started.length = 0;
     const seen: RebalanceStatus[] = [];
-    let last = performance.now();
-    let longestGapMs = 0;
-    const timer = setInterval(() => {
-      const t = performance.now();
-      longestGapMs = Math.max(longestGapMs, t - last);
-      last = t;
-    }, 10);
+    const watch = watchThread();
     let end: RebalanceStatus;
     try {
       const s = await session.startRebalance('week 1', week2Id, 'week 2', { demandShare: 0.05 });
@@ -80,14 +74,14 @@ describe('AppSession: the rebalance runs in a worker thread', () => {
         clearInterval(poll);
       }
     } finally {
-      clearInterval(timer);
+      watch.stop();
     }
     expect(started).toHaveLength(1);
     expect(end.state).toBe('done');
     expect(end.fraction).toBe(1);
     expect(end.message).toBeNull();
     // The thread was never held for long (the solve alone takes seconds at this size).
-    expect(longestGapMs).toBeLessThan(1000);
+    expect(watch.longestGapMs).toBeLessThan(1000);
     // Progress never went back, and was seen part way.
     const fractions = seen.map((x) => x.fraction);
     for (let i = 1; i < fractions.length; i++) expect(fractions[i]!).toBeGreaterThanOrEqual(fractions[i - 1]!);

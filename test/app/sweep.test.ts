@@ -11,7 +11,7 @@ import { sweepStops } from '../../src/api/sweep.js';
 import { readStopsText } from '../../src/api/text-import.js';
 import { sweepWorker } from '../../src/run/sweep-run.js';
 import type { SweepJob } from '../../src/run/sweep-worker.js';
-import { emptySession, stopsCsv } from './helpers.js';
+import { emptySession, stopsCsv, watchThread } from './helpers.js';
 
 let session: AppSession;
 /** Sweep workers started by the session. */
@@ -37,20 +37,12 @@ describe('AppSession: the sweep runs in a worker thread', () => {
     started.length = 0;
     const seen: SweepStatus[] = [];
     // Timer ticks while the sweep runs: the longest time between two is how long the thread was held.
-    let ticks = 0;
-    let last = performance.now();
-    let longestGapMs = 0;
-    const timer = setInterval(() => {
-      const t = performance.now();
-      longestGapMs = Math.max(longestGapMs, t - last);
-      last = t;
-      ticks++;
-    }, 10);
+    const watch = watchThread();
     /** The timer's ticks when each row arrived. */
     const ticksAtRows: number[] = [];
     try {
       const s = await session.startSweep(1, 6, 10, { seed: 1, restarts: 4 }, (st) => {
-        if (st.rows.length > ticksAtRows.length) ticksAtRows.push(ticks);
+        if (st.rows.length > ticksAtRows.length) ticksAtRows.push(watch.ticks);
         seen.push(st);
       });
       expect(s.state).toBe('running');
@@ -65,10 +57,10 @@ describe('AppSession: the sweep runs in a worker thread', () => {
       expect(end.message).toBeNull();
       expect(end.rows.map((r) => r.zones)).toEqual([6, 7, 8, 9, 10]);
     } finally {
-      clearInterval(timer);
+      watch.stop();
     }
     expect(started).toHaveLength(1);
-    expect(longestGapMs).toBeLessThan(1000);
+    expect(watch.longestGapMs).toBeLessThan(1000);
     // One row more at a time, in order, each while the sweep was still running but the last.
     const counts = seen.map((st) => st.rows.length);
     for (let i = 1; i < counts.length; i++) expect([0, 1]).toContain(counts[i]! - counts[i - 1]!);
