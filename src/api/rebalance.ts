@@ -203,14 +203,16 @@ function remapLimits(l: LimitSettings, kept: number[], add: number): LimitSettin
  * (by zone label), with their demand; workload and stops per zone label in each; objectives.
  */
 export function comparePlans(a: { stops: StopSet; plan: Plan }, b: { stops: StopSet; plan: Plan }, listLimit = 1000): PlanComparison {
+  // Two plans of the same stops (the common case) match stop for stop, without a map of every id.
+  const same = sameIds(a.stops.ids, b.stops.ids);
   const index = new Map<string, number>();
-  a.stops.ids.forEach((id, i) => index.set(id, i));
+  if (!same) a.stops.ids.forEach((id, i) => index.set(id, i));
   const changed: { id: string; from: number; to: number; demand: number }[] = [];
   let changedCount = 0;
   let changedDemand = 0;
   let common = 0;
   b.stops.ids.forEach((id, i) => {
-    const o = index.get(id);
+    const o = same ? i : index.get(id);
     if (o === undefined) return;
     common++;
     const from = a.plan.zoneIds[a.plan.assignment[o]!]!;
@@ -245,6 +247,13 @@ export function comparePlans(a: { stops: StopSet; plan: Plan }, b: { stops: Stop
     objectiveBeforeKm2: fa.objectiveKm2,
     objectiveAfterKm2: fb.objectiveKm2,
   };
+}
+
+function sameIds(a: readonly string[], b: readonly string[]): boolean {
+  if (a === b) return true;
+  if (a.length !== b.length) return false;
+  for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
+  return true;
 }
 
 /** DEFAULT_MOVE_SHARE of the plan's objective per unit of its demand (km^2), 0 for an empty plan. */

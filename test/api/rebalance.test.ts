@@ -446,6 +446,26 @@ describe('comparePlans', () => {
     expect(few.changedDemand).toBe(all.changedDemand);
   });
 
+  it('matches stops by id, not by position: the same stops in reverse order compare as the same', async () => {
+    // Plan A's stops reversed, each with its zone: nothing changed, whatever the order.
+    const n = t.stops.ids.length;
+    const r = (i: number): number => n - 1 - i;
+    const reversed = stopSet(
+      t.stops.ids.map((_, i) => t.stops.ids[r(i)]!),
+      Float64Array.from({ length: 2 * n }, (_, k) => t.stops.lonLat[2 * r(k >> 1) + (k & 1)]!),
+      Float64Array.from(t.stops.demand, (_, i) => t.stops.demand[r(i)]!),
+    );
+    const plan = { ...a.plan, assignment: Int32Array.from(a.plan.assignment, (_, i) => a.plan.assignment[r(i)]!) };
+    const c = comparePlans(a, { stops: reversed, plan });
+    expect(c).toMatchObject({ commonStops: n, changedStops: 0, changed: [] });
+    // And one stop moved in the reversed plan is found under its id.
+    const moved = Int32Array.from(plan.assignment);
+    moved[0] = (moved[0]! + 1) % a.plan.zoneIds.length;
+    const d = comparePlans(a, { stops: reversed, plan: { ...plan, assignment: moved } });
+    expect(d.changedStops).toBe(1);
+    expect(d.changed[0]!.id).toBe(t.stops.ids[n - 1]);
+  });
+
   it('a plan against itself: nothing changed, objectives equal', () => {
     const c = comparePlans(a, a);
     expect(c).toMatchObject({ commonStops: t.stops.ids.length, changedStops: 0, changedDemand: 0, changed: [] });
