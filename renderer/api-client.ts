@@ -78,6 +78,7 @@ export function createHttpApi(token: string, base = ''): Api {
     redo: c('redo'),
     renamePlan: c('renamePlan'),
     compare: c('compare'),
+    changedStopFlags: c('changedStopFlags'),
     rebalance: c('rebalance'),
     startRebalance: c('startRebalance'),
     rebalanceStatus: c('rebalanceStatus'),

@@ -621,28 +621,22 @@ async function renderComparison(): Promise<void> {
   el.innerHTML = '';
   if (!c) return;
   const r = c.result;
-  el.appendChild(h('p', { 'data-changed': r.changedStops, text: `${fmt(r.changedStops)} of ${fmt(r.commonStops)} stops changed zone (demand ${fmt(r.changedDemand)}). Objective ${fmt(r.objectiveBeforeKm2)} → ${fmt(r.objectiveAfterKm2)} km².${r.changed.length < r.changedStops ? ` The map marks the first ${r.changed.length}.` : ''}` }));
+  el.appendChild(h('p', { 'data-changed': r.changedStops, text: `${fmt(r.changedStops)} of ${fmt(r.commonStops)} stops changed zone (demand ${fmt(r.changedDemand)}). Objective ${fmt(r.objectiveBeforeKm2)} → ${fmt(r.objectiveAfterKm2)} km². The map marks those in the plan shown.` }));
   const t = h('table', { class: 'zp-table', 'aria-label': `Workload per zone, ${c.a} then ${c.b}` }, h('thead', {}, h('tr', {}, ...['Zone', `Stops ${c.a}`, `Stops ${c.b}`, `Demand ${c.a}`, `Demand ${c.b}`].map((x) => h('th', { scope: 'col', text: x })))));
   const tb = h('tbody');
   for (const z of r.zones) tb.appendChild(h('tr', { 'data-zone': z.zone }, h('td', { text: z.name ?? z.zone }), h('td', { text: fmt(z.stopsBefore) }), h('td', { text: fmt(z.stopsAfter) }), h('td', { text: fmt(z.demandBefore) }), h('td', { text: fmt(z.demandAfter) })));
   t.appendChild(tb);
   el.appendChild(h('div', { class: 'zp-table-wrap' }, t));
-  // Highlight the changed stops that are in the plan on the map.
-  const ids = await stopIds();
-  if (!ids || !state.arrays) return;
-  const pos = new Map<string, number>();
-  ids.forEach((id, i) => pos.set(id, i));
-  const flags = new Uint8Array(state.arrays.count);
-  let marked = 0;
-  for (const ch of r.changed) {
-    const i = pos.get(ch.id);
-    if (i !== undefined) {
-      flags[i] = 1;
-      marked++;
-    }
-  }
-  mapView.stops.setHighlighted(marked ? flags : null);
-  $('map').dataset['highlighted'] = String(marked);
+  // Highlight every changed stop that is in the plan on the map.
+  const shown = state.plan;
+  if (!shown || !state.arrays) return;
+  const count = state.arrays.count;
+  const got = await guard('Marking the changed stops', () => api.changedStopFlags(c.a, c.b, shown));
+  if (!got || state.comparison !== c || state.plan !== shown) return;
+  const bytes = Uint8Array.from(atob(got.flags), (ch) => ch.charCodeAt(0));
+  if (bytes.length !== count) return;
+  mapView.stops.setHighlighted(got.marked ? bytes : null);
+  $('map').dataset['highlighted'] = String(got.marked);
 }
 
 /** The rebalance shown in the Versions panel (null: none, or the project changed since). */

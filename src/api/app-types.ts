@@ -139,6 +139,13 @@ export interface RunStatus {
   readonly planName: string;
 }
 
+/** The stops of a shown plan that changed zone between two plans (see Api.changedStopFlags). */
+export interface ChangedStopFlags {
+  readonly marked: number;
+  /** One byte per stop of the shown plan, in the order of its arrays: 1 changed, 0 not; base64. */
+  readonly flags: string;
+}
+
 /** The map's settings, shared by the desktop window and browser mode. */
 export interface MapSettings {
   /** An online tile layer (an https URL with {z}, {x} and {y}) and its attribution; null: the offline outlines. */
@@ -235,6 +242,11 @@ export interface Api {
   redo(plan: string): Promise<PlanView>;
   renamePlan(from: string, to: string): Promise<ProjectInfo>;
   compare(a: string, b: string): Promise<PlanComparison>;
+  /**
+   * Which stops of plan `shown` changed zone between plans a and b (matched by id; a stop not in
+   * both has not changed): one byte per stop of `shown` (1: changed), base64, and how many.
+   */
+  changedStopFlags(a: string, b: string, shown: string): Promise<ChangedStopFlags>;
   rebalance(plan: string, stopSetId: number, newName: string, budget: { readonly stops: number } | { readonly demandShare: number } | null): Promise<{ readonly view: PlanView; readonly report: RebalanceReport }>;
   /** Starts a rebalance in a worker thread (the plan as edited now, onto the stop set); saved as newName when done. */
   startRebalance(plan: string, stopSetId: number, newName: string, budget: { readonly stops: number } | { readonly demandShare: number } | null): Promise<RebalanceStatus>;

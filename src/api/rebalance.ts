@@ -249,6 +249,29 @@ export function comparePlans(a: { stops: StopSet; plan: Plan }, b: { stops: Stop
   };
 }
 
+/**
+ * One byte per stop of plan `shown`: 1 where the stop, present in plans a and b (by id),
+ * has a different zone label in b than in a. Plans of the same stops match stop for stop.
+ */
+export function changedFlags(a: { stops: StopSet; plan: Plan }, b: { stops: StopSet; plan: Plan }, shown: { stops: StopSet }): Uint8Array {
+  const n = shown.stops.ids.length;
+  const flags = new Uint8Array(n);
+  const indexOf = (p: { stops: StopSet }): ((i: number) => number | undefined) => {
+    if (sameIds(p.stops.ids, shown.stops.ids)) return (i) => i;
+    const index = new Map<string, number>();
+    p.stops.ids.forEach((id, i) => index.set(id, i));
+    return (i) => index.get(shown.stops.ids[i]!);
+  };
+  const inA = indexOf(a);
+  const inB = indexOf(b);
+  for (let i = 0; i < n; i++) {
+    const ia = inA(i);
+    const ib = inB(i);
+    if (ia !== undefined && ib !== undefined && a.plan.zoneIds[a.plan.assignment[ia]!] !== b.plan.zoneIds[b.plan.assignment[ib]!]) flags[i] = 1;
+  }
+  return flags;
+}
+
 function sameIds(a: readonly string[], b: readonly string[]): boolean {
   if (a === b) return true;
   if (a.length !== b.length) return false;

@@ -16,6 +16,7 @@ import type { RebalanceOutput } from '../run/rebalance-worker.js';
 import type { WorkerRunHandle } from '../run/worker-run.js';
 import type {
   Api,
+  ChangedStopFlags,
   ExportRequest,
   ExportResult,
   ImportOutcome,
@@ -38,7 +39,7 @@ import { applyEdits, type EditedPlan } from './edited-plan.js';
 import type { SolvedPlan } from './plan-file.js';
 import { planArrays, planView, stopDetails } from './plan-view.js';
 import { createProject, openProject, type LoadedPlan, type ProjectHandle } from './project.js';
-import { comparePlans } from './rebalance.js';
+import { changedFlags, comparePlans } from './rebalance.js';
 import { checkReport } from './report.js';
 import { SweepRuns } from './sweep-runs.js';
 import { readStopsSource } from './text-import.js';
@@ -415,6 +416,16 @@ export class AppSession implements Api {
     const pa = (await this.edited(a)).plan;
     const pb = (await this.edited(b)).plan;
     return comparePlans(pa, pb);
+  }
+
+  async changedStopFlags(a: string, b: string, shown: string): Promise<ChangedStopFlags> {
+    const pa = (await this.edited(a)).plan;
+    const pb = (await this.edited(b)).plan;
+    const ps = (await this.edited(shown)).plan;
+    const flags = changedFlags(pa, pb, ps);
+    let marked = 0;
+    for (let i = 0; i < flags.length; i++) marked += flags[i]!;
+    return { marked, flags: Buffer.from(flags.buffer, flags.byteOffset, flags.byteLength).toString('base64') };
   }
 
   /**

@@ -108,6 +108,7 @@ export const ARG_SCHEMAS: { readonly [M in ApiMethod]: z.ZodType<readonly unknow
   redo: z.tuple([planName]),
   renamePlan: z.tuple([planName, planName]),
   compare: z.tuple([planName, planName]),
+  changedStopFlags: z.tuple([planName, planName, planName]),
   rebalance: z.tuple([planName, stopSetId, planName, budget]),
   startRebalance: z.tuple([planName, stopSetId, planName, budget]),
   rebalanceStatus: z.tuple([runId]),

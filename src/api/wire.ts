@@ -48,6 +48,7 @@ export const API_METHODS = [
   'redo',
   'renamePlan',
   'compare',
+  'changedStopFlags',
   'rebalance',
   'startRebalance',
   'rebalanceStatus',

@@ -447,6 +447,28 @@ describe('AppSession: plan arrays, export, compare, rename, rebalance, sweep', (
     expect((await session.project()).plans.map((p) => p.name)).toContain('week 2');
   });
 
+  it('marks every stop of the plan shown that changed zone between two plans, matched by id', async () => {
+    // 'base v2' (4 zones) against 'edit me' (5 zones) on the same 300 stops, shown on the first
+    // and on 'week 2' (270 of those stops, in another stop set).
+    const cmp = await session.compare('base v2', 'edit me');
+    expect(cmp.changedStops).toBeGreaterThan(0);
+    expect(cmp.changed.length).toBe(cmp.changedStops);
+    const changedIds = new Set(cmp.changed.map((c) => c.id));
+    for (const shown of ['base v2', 'week 2']) {
+      const got = await session.changedStopFlags('base v2', 'edit me', shown);
+      const flags = Buffer.from(got.flags, 'base64');
+      const ids = await session.stopIds(shown);
+      expect(flags.length).toBe(ids.length);
+      const expected = ids.filter((id) => changedIds.has(id)).length;
+      expect(got.marked).toBe(expected);
+      if (shown === 'base v2') expect(expected).toBe(cmp.changedStops);
+      else expect(expected).toBeLessThan(cmp.changedStops);
+      ids.forEach((id, i) => expect(flags[i], `${shown}: ${id}`).toBe(changedIds.has(id) ? 1 : 0));
+    }
+    // A plan against itself marks nothing.
+    expect((await session.changedStopFlags('week 2', 'week 2', 'base v2')).marked).toBe(0);
+  });
+
   it('sweeps a range of zone counts', async () => {
     const rows = await session.sweep(1, 2, 4, { seed: 1, restarts: 1 });
     expect(rows.map((r) => r.zones)).toEqual([2, 3, 4]);
