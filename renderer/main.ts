@@ -627,7 +627,9 @@ async function renderComparison(): Promise<void> {
   for (const z of r.zones) tb.appendChild(h('tr', { 'data-zone': z.zone }, h('td', { text: z.name ?? z.zone }), h('td', { text: fmt(z.stopsBefore) }), h('td', { text: fmt(z.stopsAfter) }), h('td', { text: fmt(z.demandBefore) }), h('td', { text: fmt(z.demandAfter) })));
   t.appendChild(tb);
   el.appendChild(h('div', { class: 'zp-table-wrap' }, t));
-  // Highlight every changed stop that is in the plan on the map.
+  // Highlight every changed stop that is in the plan on the map (none until they are known).
+  mapView.stops.setHighlighted(null);
+  $('map').dataset['highlighted'] = '0';
   const shown = state.plan;
   if (!shown || !state.arrays) return;
   const count = state.arrays.count;
@@ -660,12 +662,16 @@ function showRebalance(s: RebalanceStatus | null): void {
 }
 
 async function pollRebalance(id: string): Promise<void> {
+  let misses = 0;
   for (;;) {
     await new Promise((r) => setTimeout(r, 150));
-    if (rebalanceRun?.id !== id) return; // the project changed: this rebalance is no longer shown
+    if (rebalanceRun?.id !== id) return; // another rebalance is shown now
     const s = await guard('Rebalance status', () => api.rebalanceStatus(id));
     if (rebalanceRun?.id !== id) return;
-    if (!s) return showRebalance({ ...rebalanceRun, state: 'failed' });
+    // A status call that failed says nothing of the rebalance itself: ask again a few times.
+    if (!s && ++misses < 5) continue;
+    if (!s) return showRebalance({ ...rebalanceRun, state: 'failed', message: 'its status could not be read; see Plan versions for what was saved' });
+    misses = 0;
     rebalanceRun = s;
     showRebalance(s);
     if (s.state === 'running') continue;
@@ -969,10 +975,14 @@ async function loadMapSettings(): Promise<void> {
   if (!settings) return;
   try {
     const old = JSON.parse(localStorage.getItem(OLD_TILE_KEY) ?? 'null') as { url?: unknown; attr?: unknown } | null;
+    let carried = true;
     if (!settings.tiles && old && typeof old.url === 'string' && isTileUrl(old.url)) {
-      settings = (await guard('Map settings', () => api.saveMapSettings({ tiles: { url: old.url as string, attribution: typeof old.attr === 'string' ? old.attr : '' } }))) ?? settings;
+      const saved = await guard('Map settings', () => api.saveMapSettings({ tiles: { url: old.url as string, attribution: typeof old.attr === 'string' ? old.attr : '' } }));
+      if (saved) settings = saved;
+      carried = saved !== undefined;
     }
-    localStorage.removeItem(OLD_TILE_KEY);
+    // Kept until it is safely on the main side.
+    if (carried) localStorage.removeItem(OLD_TILE_KEY);
   } catch {
     /* storage unavailable: nothing to carry over */
   }
@@ -1030,11 +1040,17 @@ async function start(): Promise<void> {
   if (change.what === 'stops') return void showStopSet(change.stopSet);
   // The reports of the project that was open no longer apply.
   for (const id of ['import-report', 'chart-sweep', 'rebalance-result']) $(id).textContent = '';
-  sweepRun = null;
-  sweepDrawn = -1;
-  showSweep(null);
-  rebalanceRun = null;
-  showRebalance(null);
+  // A sweep or rebalance under way was stopped with the project: its poll fetches the end and
+  // says why. Those that had ended no longer apply.
+  if (sweepRun?.state !== 'running') {
+    sweepRun = null;
+    sweepDrawn = -1;
+    showSweep(null);
+  }
+  if (rebalanceRun?.state !== 'running') {
+    rebalanceRun = null;
+    showRebalance(null);
+  }
   void showProject();
 });
 

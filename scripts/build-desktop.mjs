@@ -1,6 +1,6 @@
 // Builds the desktop shell into dist/main (Electron main as ESM, the sandboxed preload as one
 // CommonJS file that only requires electron) and the app's workers (plan runs, sweeps, zone
-// polygons redrawn after edits) beside each bundle that starts them (dist/main for the desktop
+// polygons redrawn after edits, rebalances, exports and imports of large files) beside each bundle that starts them (dist/main for the desktop
 // app, dist/node for `zoneplan serve`). Run by build.mjs.
 import * as esbuild from 'esbuild';
 import { readFileSync, rmSync } from 'node:fs';

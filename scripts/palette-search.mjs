@@ -3,6 +3,8 @@
 // protan, deutan and tritan vision (culori's simulation after Machado, Oliveira and Fernandes
 // 2009, at full severity), by CIEDE2000. Deterministic: a fixed sRGB grid, slots improved in
 // turn from the palette given until no slot improves. Run: node scripts/palette-search.mjs
+import { realpathSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { differenceCiede2000, filterDeficiencyDeuter, filterDeficiencyProt, filterDeficiencyTrit, formatHex, lab65, parse } from 'culori';
 
 const START = ['#1f5fa0', '#f0a830', '#6b2d8c', '#8fd0ea', '#8a3b12', '#f5df4d', '#0e5a55', '#f3a0b8', '#7a4a9a', '#b9e3a0', '#c2410c', '#c9b8f0'];
@@ -22,7 +24,7 @@ const chroma = (hex) => {
   return Math.hypot(c.a, c.b);
 };
 /**
- * Dark slots (1, 3, 5, ...) at L* 25-50, light slots at L* 60-82 (no black or white: stops must
+ * Zones 1, 3, 5, ... (slots 0, 2, 4, ...) dark at L* 25-50, light slots at L* 60-82 (no black or white: stops must
  * show on the pale basemap and under the dark zone numbers), and colourful (chroma at least 30),
  * so that no zone looks like the grey outlines or the basemap.
  */
@@ -66,7 +68,16 @@ export function search() {
   return palette;
 }
 
-if (import.meta.url.endsWith(process.argv[1]?.split('/').pop() ?? '\0')) {
+/** Whether node was started with this file (by real path), not importing it. */
+function isMain() {
+  try {
+    return !!process.argv[1] && realpathSync(process.argv[1]) === realpathSync(fileURLToPath(import.meta.url));
+  } catch {
+    return false;
+  }
+}
+
+if (isMain()) {
   const p = search();
   let min = Infinity;
   for (let i = 0; i < p.length; i++) for (let j = i + 1; j < p.length; j++) min = Math.min(min, worstDifference(p[i], p[j]));

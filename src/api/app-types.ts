@@ -251,7 +251,7 @@ export interface Api {
   /** Starts a rebalance in a worker thread (the plan as edited now, onto the stop set); saved as newName when done. */
   startRebalance(plan: string, stopSetId: number, newName: string, budget: { readonly stops: number } | { readonly demandShare: number } | null): Promise<RebalanceStatus>;
   rebalanceStatus(id: string): Promise<RebalanceStatus>;
-  /** Stops a rebalance at once; nothing is saved, the plans are unchanged. */
+  /** Stops a rebalance at once; nothing is saved, the plans are unchanged (one already finished stays 'done'). */
   cancelRebalance(id: string): Promise<RebalanceStatus>;
   sweep(stopSetId: number, from: number, to: number, settings: Omit<RunSettings, 'zones'>): Promise<readonly SweepRow[]>;
   /** Starts a sweep over [from, to] zones in a worker thread; its rows arrive in sweepStatus one by one. */

@@ -73,14 +73,16 @@ export interface SessionOptions {
 
 interface RunRecord {
   status: { -readonly [K in keyof RunStatus]: RunStatus[K] };
-  readonly run: PlanRunHandle;
+  /** The run's thread while it runs; dropped when it has ended (its outcome holds the whole plan). */
+  run: PlanRunHandle | null;
   /** Settles when the run has ended and its plan is saved (or not). */
   readonly ended: Promise<void>;
 }
 
 interface RebalanceRecord {
   status: { -readonly [K in keyof RebalanceStatus]: RebalanceStatus[K] };
-  readonly run: WorkerRunHandle<RebalanceOutput>;
+  /** The rebalance's thread while it runs; dropped when it has ended (its outcome holds the whole plan). */
+  run: WorkerRunHandle<RebalanceOutput> | null;
   /** Settles when the rebalance has ended and its plan is saved (or not), with its error when it failed. */
   readonly ended: Promise<WireError | null>;
 }
@@ -250,7 +252,9 @@ export class AppSession implements Api {
         Object.assign(status, { state: 'failed', message: e instanceof Error ? e.message : String(e) });
       }
     });
-    this.runs.set(id, { status, run, ended });
+    const record: RunRecord = { status, run, ended };
+    void ended.finally(() => (record.run = null));
+    this.runs.set(id, record);
     return { ...status };
   }
 
@@ -267,7 +271,7 @@ export class AppSession implements Api {
   async cancelRun(id: string): Promise<RunStatus> {
     const r = this.runOf(id);
     if (r.status.state === 'running') {
-      await r.run.cancel();
+      await r.run?.cancel();
       await r.ended;
     }
     return { ...r.status };
@@ -401,6 +405,7 @@ export class AppSession implements Api {
   async renamePlan(from: string, to: string): Promise<ProjectInfo> {
     const h = this.need();
     const old = h.store.planInfo(from).name;
+    this.nameNotTaken(to.trim());
     const row = await h.renamePlan(old, to);
     this.plans.delete(old);
     this.loaded.delete(old);
@@ -472,7 +477,9 @@ export class AppSession implements Api {
         return error;
       }
     });
-    this.rebalances.set(id, { status, run, ended });
+    const record: RebalanceRecord = { status, run, ended };
+    void ended.finally(() => (record.run = null));
+    this.rebalances.set(id, record);
     return { ...status };
   }
 
@@ -493,11 +500,11 @@ export class AppSession implements Api {
     return { ...this.rebalanceOf(id).status };
   }
 
-  /** Stops a rebalance at once (its thread is ended); nothing is saved. */
+  /** Stops a rebalance at once (its thread is ended); nothing is saved. One that had already finished stays 'done', its plan saved. */
   async cancelRebalance(id: string): Promise<RebalanceStatus> {
     const r = this.rebalanceOf(id);
     if (r.status.state === 'running') {
-      await r.run.cancel();
+      await r.run?.cancel();
       await r.ended;
     }
     return { ...r.status };

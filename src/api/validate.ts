@@ -137,10 +137,11 @@ export function validateArgs(method: string, args: unknown): readonly unknown[] 
 }
 
 /**
- * Browser mode takes no paths of files on this machine: the page has no business naming them
- * (it sends a dropped file's bytes and gets exports back as content), and a leaked page address
- * (its token) must not let anyone read or write the planner's files. The desktop window, whose
- * paths come from its own file dialogs, is not limited by this.
+ * The window takes no paths of files on this machine, in browser mode and over the desktop IPC
+ * alike: the page has no business naming them (it sends a dropped file's bytes and gets exports
+ * back as content), and a leaked page address (its token) or a page gone wrong must not let
+ * anyone read or write the planner's files. The desktop's files are named by the main side's
+ * own menus and dialogs, which call the session directly.
  */
 export function refuseFilePaths(method: string, args: readonly unknown[]): void {
   const refuse = (what: string): never => {

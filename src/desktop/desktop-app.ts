@@ -1,5 +1,6 @@
 import path from 'node:path';
 import type { ProjectInfo } from '../api/app-types.js';
+import { userDataDir } from '../api/app-paths.js';
 import { ensureDemoProject } from '../api/demo.js';
 import { MAP_SETTINGS_FILE } from '../api/map-settings.js';
 import { AppSession } from '../api/session.js';
@@ -39,7 +40,9 @@ export async function startDesktop(electron: ElectronLike, options: DesktopOptio
   serveAppFiles(protocol, path.join(options.distDir, 'renderer'));
   const dataDir = app.getPath('userData');
   const recent = new RecentProjects(path.join(dataDir, 'recent-projects.json'));
-  const session = new AppSession({ mode: 'desktop', mapSettingsFile: path.join(dataDir, MAP_SETTINGS_FILE) });
+  // The map settings live where browser mode keeps them (userDataDir), not in Electron's own
+  // folder (on Linux another one), so that both front ends share them.
+  const session = new AppSession({ mode: 'desktop', mapSettingsFile: path.join(userDataDir(), MAP_SETTINGS_FILE) });
   const first = options.project ?? recent.latest() ?? (await ensureDemoProject(dataDir));
   await session.open(first);
   recent.add(first);

@@ -9,7 +9,8 @@ import { Worker } from 'node:worker_threads';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { ImportOutcome, ImportSource } from '../../src/api/app-types.js';
 import type { AppSession } from '../../src/api/session.js';
-import { importWorker } from '../../src/run/import-run.js';
+import { readStopsSource } from '../../src/api/text-import.js';
+import { importWorker, startImportRead } from '../../src/run/import-run.js';
 import type { ImportJob } from '../../src/run/import-worker.js';
 import { emptySession, stopsCsv } from './helpers.js';
 
@@ -83,13 +84,19 @@ describe('AppSession: imports of large files in a worker thread', () => {
     });
   }
 
-  it('the stops imported through the worker are the same as those imported here', async () => {
-    const a = await inWorker.importStops({ name: 'good.csv', text: good });
-    const b = await here.importStops({ name: 'good.csv', text: good });
-    if (!a.ok || !b.ok) throw new Error('import failed');
-    expect(a.stopSet.stops).toBe(5000);
-    expect(a.stopSet.totalDemand).toBe(b.stopSet.totalDemand);
-    expect(a.stopSet.bbox).toEqual(b.stopSet.bbox);
+  it('the worker reads the same stops as this thread: ids, positions, demand and warnings', async () => {
+    for (const source of [{ name: 'good.csv', text: good }, { name: 'latin.csv', base64: latin.toString('base64') }] as ImportSource[]) {
+      const o = await startImportRead({ source, options: {} }).outcome;
+      expect(o.state).toBe('done');
+      if (o.state !== 'done' || !o.value.ok) throw new Error('the worker did not read the stops');
+      const w = o.value.stops;
+      const h = readStopsSource(source);
+      expect(w.ids).toEqual(h.ids);
+      expect(Array.from(w.lonLat)).toEqual(Array.from(h.lonLat));
+      expect(Array.from(w.demand)).toEqual(Array.from(h.demand));
+      expect(Array.from(w.units)).toEqual(Array.from(h.units));
+      expect(w.warnings).toEqual(h.warnings);
+    }
   });
 
   it('reads a missing file on its own thread (nothing to read): no such file', async () => {

@@ -67,6 +67,7 @@ describe('AppSession: the rebalance runs in a worker thread', () => {
       expect((await session.project()).plans.map((p) => p.name)).toEqual(['week 1']);
       await expect(session.startRun(week2Id, { zones: 3 }, 'week 2')).rejects.toThrow(/already under way/);
       await expect(session.startRebalance('week 1', week2Id, 'week 2', null)).rejects.toThrow(/already under way/);
+      await expect(session.renamePlan('week 1', 'week 2')).rejects.toThrow(/already under way/);
       const poll = setInterval(() => void session.rebalanceStatus(s.id).then((x) => seen.push(x)), 20);
       try {
         end = await session.waitForRebalance(s.id);

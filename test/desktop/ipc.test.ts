@@ -16,6 +16,10 @@ import { createMainWindow, secureWebPreferences } from '../../src/desktop/window
 import type { AppSession } from '../../src/api/session.js';
 import { createProject } from '../../src/api/project.js';
 import { tempDir } from '../app/helpers.js';
+import { readFileSync } from 'node:fs';
+import { userDataDir } from '../../src/api/app-paths.js';
+import { MAP_SETTINGS_FILE } from '../../src/api/map-settings.js';
+import { startBrowserMode } from '../../src/serve/browser-mode.js';
 import { fakeElectron, FakeIpcRenderer, FakeWindow, type Handler } from './stand-in.js';
 
 const APP_FRAME = { url: APP_INDEX_URL, parent: null };
@@ -323,8 +327,12 @@ describe('window: the secure settings of Electron\'s security checklist', () => 
 describe('desktop app: wiring with a stand-in electron', () => {
   let session: AppSession;
   const e = fakeElectron(tempDir('userdata'));
+  // The user's data folder of browser mode (userDataDir), set for this test.
+  const dataDir = tempDir('zoneplan-data');
+  const envBefore = process.env['ZONEPLAN_DATA_DIR'];
 
   beforeAll(async () => {
+    process.env['ZONEPLAN_DATA_DIR'] = dataDir;
     const dir = tempDir('desktop');
     const project = path.join(dir, 'p.zoneplan');
     await createProject(project);
@@ -334,6 +342,25 @@ describe('desktop app: wiring with a stand-in electron', () => {
 
   afterAll(async () => {
     await session.close();
+    if (envBefore === undefined) delete process.env['ZONEPLAN_DATA_DIR'];
+    else process.env['ZONEPLAN_DATA_DIR'] = envBefore;
+  });
+
+  it('keeps the map settings where browser mode keeps them (userDataDir), not in Electron\'s folder', async () => {
+    const tiles = { url: 'https://tiles.example.org/{z}/{x}/{y}.png', attribution: '© example' };
+    const reply = (await e.handlers.get(channelOf('saveMapSettings'))!({ senderFrame: APP_FRAME }, { tiles })) as WireReply;
+    expect(reply).toEqual({ ok: true, value: { tiles } });
+    expect(path.join(userDataDir(), MAP_SETTINGS_FILE)).toBe(path.join(dataDir, MAP_SETTINGS_FILE));
+    expect(JSON.parse(readFileSync(path.join(dataDir, MAP_SETTINGS_FILE), 'utf8'))).toEqual({ tiles });
+    // Browser mode, started on its default data folder, finds them.
+    const project = path.join(tempDir('web'), 'w.zoneplan');
+    await createProject(project);
+    const web = await startBrowserMode({ project, staticDir: tempDir('static') });
+    try {
+      expect(await web.session.mapSettings()).toEqual({ tiles });
+    } finally {
+      await web.stop();
+    }
   });
 
   it('opens the project, handles every method over IPC and guards every web contents', async () => {

@@ -30,6 +30,7 @@ test('tiles set in the panel are used by the map and kept after a reload', async
   // Refused: not https.
   await page.fill('#tiles-url', 'http://tiles-a.example.org/{z}/{x}/{y}.png');
   await page.click('#tiles-form button[type=submit]');
+  await expect(page.locator('#status')).toContainText('must be https');
   expect((await app.call<MapSettings>('mapSettings')).tiles).toBeNull();
   // Taken from the keyboard.
   await page.fill('#tiles-url', URL_A);

@@ -8,8 +8,6 @@ import type { PlanView, ProjectInfo, StopDetails } from '../../src/api/app-types
 import type { PlanComparison } from '../../src/api/types.js';
 import { expect, stopsCsv, test, waitRunEnd, writeTemp } from './fixtures.js';
 
-const PLAN = 'demo: 12 zones';
-
 /** Presses Tab until the element matching `selector` has the focus (at most `max` presses). */
 async function tabTo(page: Page, selector: string, max = 400): Promise<void> {
   for (let i = 0; i < max; i++) {
