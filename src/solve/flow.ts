@@ -49,10 +49,21 @@ export class ZoneFlow {
   private pieceCount = 0;
   private readonly spare: number[] = [];
   private readonly first: Int32Array;
-  /** Heaps of moves j -> l, keyed j * k + l. */
-  private readonly heaps = new Map<number, MoveHeap>();
-  /** Outgoing heap keys per zone (l values with a heap j -> l). */
-  private readonly outgoing: Set<number>[];
+  /** Heaps of moves j -> l: their numbers by zone pair, and per zone j its l values and heaps (in order of creation). */
+  private readonly heapIndex = new PairIndex();
+  private readonly heapList: MoveHeap[] = [];
+  private readonly outZones: number[][];
+  private readonly outHeaps: MoveHeap[][];
+  /**
+   * Per zone u, the arcs u -> l of the graph as the heaps' tops give them (zone, move cost,
+   * piece), kept until a piece enters or leaves u: the shortest paths read them many times
+   * between changes, which touch few zones.
+   */
+  private readonly arcZone: Int32Array[];
+  private readonly arcKey: Float64Array[];
+  private readonly arcPiece: Int32Array[];
+  private readonly arcCount: Int32Array;
+  private readonly arcsStale: Uint8Array;
   private readonly unitScale: number;
   /** Per zone: the pieces in it (with each piece's position), for the bulk phase. */
   private readonly zoneLists: Int32Array[];
@@ -60,6 +71,12 @@ export class ZoneFlow {
   private readonly reverseStart: Int32Array;
   private readonly reverse: Int32Array;
   private piecePos = new Int32Array(0);
+  /** Scratch of the price steps: pieces already taken (by stamp), moves taken off the heaps. */
+  private pieceMark = new Int32Array(0);
+  private markStamp = 0;
+  private readonly popped: number[] = [];
+  private readonly poppedKeys: number[] = [];
+  private readonly mergeQueue = new NodeHeap();
   private readonly byPrice: Int32Array;
   private byPriceStale = true;
 
@@ -70,7 +87,7 @@ export class ZoneFlow {
     private readonly free: Int32Array,
     private readonly supply: Float64Array,
     private readonly costFactor: Float64Array,
-    private readonly bounds: FlowBounds,
+    private bounds: FlowBounds,
     warm?: Float64Array,
     /** Optional: each stop's current zone (-1: none) and a per-unit bonus for staying there (a move cost). */
     private readonly stay: Int32Array | null = null,
@@ -89,7 +106,13 @@ export class ZoneFlow {
     this.largestSplit = new Float64Array(k);
     this.byPrice = new Int32Array(k);
     this.first = new Int32Array(supply.length).fill(-1);
-    this.outgoing = Array.from({ length: k }, () => new Set<number>());
+    this.outZones = Array.from({ length: k }, () => [] as number[]);
+    this.outHeaps = Array.from({ length: k }, () => [] as MoveHeap[]);
+    this.arcZone = Array.from({ length: k }, () => new Int32Array(8));
+    this.arcKey = Array.from({ length: k }, () => new Float64Array(8));
+    this.arcPiece = Array.from({ length: k }, () => new Int32Array(8));
+    this.arcCount = new Int32Array(k);
+    this.arcsStale = new Uint8Array(k).fill(1);
     let total = 0;
     for (let t = 0; t < free.length; t++) total += supply[free[t]!]!;
     this.unitScale = Math.max(1e-300, total / Math.max(1, free.length));
@@ -152,6 +175,7 @@ export class ZoneFlow {
     this.pieceNext = i32(this.pieceNext);
     this.pieceVersion = i32(this.pieceVersion);
     this.piecePos = i32(this.piecePos);
+    this.pieceMark = i32(this.pieceMark);
     const x = new Float64Array(capacity);
     x.set(this.pieceX);
     this.pieceX = x;
@@ -261,22 +285,30 @@ export class ZoneFlow {
     const C = this.cand.c;
     const here = this.unitCost(i, j);
     const version = this.pieceVersion[piece]!;
+    this.arcsStale[j] = 1;
     for (let s = 0; s < C; s++) {
       const l = this.cand.zone[i * C + s]!;
       if (l === j) continue;
-      const key = j * this.k + l;
-      let heap = this.heaps.get(key);
-      if (!heap) {
-        heap = new MoveHeap();
-        this.heaps.set(key, heap);
-        this.outgoing[j]!.add(l);
-      }
-      heap.push(this.candCost(i, s) - here, piece, version);
+      this.heapOf(j, l).push(this.candCost(i, s) - here, piece, version);
     }
+  }
+
+  /** The heap of moves j -> l, made when there is none yet. */
+  private heapOf(j: number, l: number): MoveHeap {
+    const key = j * this.k + l;
+    const at = this.heapIndex.get(key);
+    if (at >= 0) return this.heapList[at]!;
+    const heap = new MoveHeap();
+    this.heapIndex.set(key, this.heapList.length);
+    this.heapList.push(heap);
+    this.outZones[j]!.push(l);
+    this.outHeaps[j]!.push(heap);
+    return heap;
   }
 
   private dropPiece(piece: number): void {
     const i = this.pieceStop[piece]!;
+    this.arcsStale[this.pieceZone[piece]!] = 1;
     this.listRemove(this.pieceZone[piece]!, piece);
     this.pieceVersion[piece]!++;
     if (this.first[i] === piece) this.first[i] = this.pieceNext[piece]!;
@@ -302,6 +334,8 @@ export class ZoneFlow {
     const s = this.supply[i]!;
     this.load[from]! -= amount * s;
     this.load[to]! += amount * s;
+    this.arcsStale[from] = 1;
+    this.arcsStale[to] = 1;
     const there = this.pieceIn(i, to);
     if (whole) {
       if (there >= 0) {
@@ -322,20 +356,14 @@ export class ZoneFlow {
     this.moved++;
   }
 
-  /** The cheapest valid move j -> l (piece at the top of the heap), or -1. */
-  private topMove(j: number, l: number): number {
-    const heap = this.heaps.get(j * this.k + l);
-    if (!heap) return -1;
+  /** The cheapest valid move out of zone j in one of its heaps (the piece at the top, stale entries dropped), or -1. */
+  private topMove(j: number, heap: MoveHeap): number {
     while (heap.size > 0) {
       const piece = heap.topPiece();
       if (this.pieceVersion[piece] === heap.topVersion() && this.pieceZone[piece] === j && this.pieceX[piece]! > 0) return piece;
       heap.pop();
     }
     return -1;
-  }
-
-  private topKey(j: number, l: number): number {
-    return this.heaps.get(j * this.k + l)!.topKey();
   }
 
   /**
@@ -361,13 +389,8 @@ export class ZoneFlow {
       if (targets.length === 0) continue;
       const list = this.zoneLists[u]!.subarray(0, this.zoneSizes[u]!);
       for (const l of targets) {
-        const key = u * k + l;
-        let heap = this.heaps.get(key);
-        if (!heap) {
-          heap = new MoveHeap();
-          this.heaps.set(key, heap);
-          this.outgoing[u]!.add(l);
-        }
+        const heap = this.heapOf(u, l);
+        this.arcsStale[u] = 1;
         for (let t = 0; t < list.length; t++) {
           const piece = list[t]!;
           const i = this.pieceStop[piece]!;
@@ -418,7 +441,7 @@ export class ZoneFlow {
         void under;
       }
       if (worst < 0) return;
-      if (!this.zoneStep(worst, shed, worstAmount)) skip[worst] = 1;
+      if (!(shed ? this.shedStep(worst, worstAmount) : this.gatherStep(worst, worstAmount))) skip[worst] = 1;
       if (step % k === 0) {
         // Give up on steps that only trade excess back and forth.
         const now = breach();
@@ -429,51 +452,91 @@ export class ZoneFlow {
     }
   }
 
-  /** One single-zone step; false when nothing could move. */
-  private zoneStep(j: number, shed: boolean, need: number): boolean {
-    const C = this.cand.c;
+  /**
+   * One single-zone step up (zone j sheds `need` units); false when nothing could move. A piece
+   * in j leaves at the price rise that makes its cheapest other zone as good as j: the least of
+   * (move cost j -> l + price of l) - price of j over its moves, which the heaps of moves out of
+   * j hold in order of move cost. Merging those heaps by move cost + price of l yields j's pieces
+   * in order of the rise they need, so only the pieces that leave (and the next one) are read,
+   * not the whole zone.
+   */
+  private shedStep(j: number, need: number): boolean {
+    const zones = this.outZones[j]!;
+    const heaps = this.outHeaps[j]!;
+    const merge = this.mergeQueue;
+    merge.clear();
+    const pj = this.price[j]!;
+    for (let t = 0; t < heaps.length; t++) if (this.topMove(j, heaps[t]!) >= 0) merge.push(heaps[t]!.topKey() + this.price[zones[t]!]!, t);
+    const mark = ++this.markStamp;
+    const popped = this.popped;
+    popped.length = 0;
+    const pieces: number[] = [];
+    const target: number[] = [];
+    const amount: number[] = [];
+    let total = 0;
+    let change = 0;
+    while (merge.size > 0 && total < need) {
+      const t = merge.topNode();
+      const v = merge.topKey();
+      merge.pop();
+      const heap = heaps[t]!;
+      const piece = heap.topPiece();
+      popped.push(t, piece, heap.topVersion());
+      this.poppedKeys.push(heap.topKey());
+      heap.pop();
+      if (this.topMove(j, heap) >= 0) merge.push(heap.topKey() + this.price[zones[t]!]!, t);
+      // A stop held in its zone by an unbounded stay bonus has no finite price to move at (and
+      // neither has any piece after it in this order).
+      if (!(v < Infinity)) break;
+      if (this.pieceMark[piece] === mark) continue;
+      this.pieceMark[piece] = mark;
+      const a = this.pieceX[piece]! * this.supply[this.pieceStop[piece]!]!;
+      pieces.push(piece);
+      target.push(zones[t]!);
+      amount.push(a);
+      total += a;
+      change = Math.max(change, v - pj);
+    }
+    let taken = 0;
+    if (pieces.length > 0) {
+      this.price[j] = pj + change;
+      this.byPriceStale = true;
+      for (let u = 0; u < pieces.length; u++) {
+        const take = Math.min(amount[u]!, need - taken);
+        if (!(take > 0)) break;
+        const piece = pieces[u]!;
+        this.transfer(piece, target[u]!, take / this.supply[this.pieceStop[piece]!]!);
+        taken += take;
+      }
+    }
+    // Moves taken off the heaps whose piece is still there as it was (the one moved in part, and
+    // any not moved) go back.
+    for (let e = 0; e < popped.length; e += 3) {
+      const piece = popped[e + 1]!;
+      const version = popped[e + 2]!;
+      if (this.pieceVersion[piece] === version && this.pieceZone[piece] === j && this.pieceX[piece]! > 0) heaps[popped[e]!]!.push(this.poppedKeys[e / 3]!, piece, version);
+    }
+    this.poppedKeys.length = 0;
+    this.arcsStale[j] = 1;
+    return taken > 0;
+  }
+
+  /** One single-zone step down (zone j takes in `need` units); false when nothing could move. */
+  private gatherStep(j: number, need: number): boolean {
     const pieces: number[] = [];
     const delta: number[] = [];
     const amount: number[] = [];
-    const target: number[] = [];
-    if (shed) {
-      const list = this.zoneLists[j]!.slice(0, this.zoneSizes[j]!);
-      for (let u = 0; u < list.length; u++) {
-        const piece = list[u]!;
-        const i = this.pieceStop[piece]!;
-        let bz = -1;
-        let bv = Infinity;
-        for (let s = 0; s < C; s++) {
-          const l = this.cand.zone[i * C + s]!;
-          if (l === j) continue;
-          const v = this.candCost(i, s) + this.price[l]!;
-          if (v < bv) {
-            bv = v;
-            bz = l;
-          }
-        }
-        const d = Math.max(0, bv - this.value(i, j));
-        // A stop held in its zone by an unbounded stay bonus has no finite price to move at.
-        if (bz < 0 || !Number.isFinite(d)) continue;
+    for (let t = this.reverseStart[j]!; t < this.reverseStart[j + 1]!; t++) {
+      const i = this.reverse[t]!;
+      const there = this.value(i, j);
+      for (let piece = this.first[i]!; piece >= 0; piece = this.pieceNext[piece]!) {
+        const from = this.pieceZone[piece]!;
+        if (from === j) continue;
+        const d = Math.max(0, there - this.value(i, from));
+        if (!Number.isFinite(d)) continue;
         pieces.push(piece);
         delta.push(d);
         amount.push(this.pieceX[piece]! * this.supply[i]!);
-        target.push(bz);
-      }
-    } else {
-      for (let t = this.reverseStart[j]!; t < this.reverseStart[j + 1]!; t++) {
-        const i = this.reverse[t]!;
-        const there = this.value(i, j);
-        for (let piece = this.first[i]!; piece >= 0; piece = this.pieceNext[piece]!) {
-          const from = this.pieceZone[piece]!;
-          if (from === j) continue;
-          const d = Math.max(0, there - this.value(i, from));
-          if (!Number.isFinite(d)) continue;
-          pieces.push(piece);
-          delta.push(d);
-          amount.push(this.pieceX[piece]! * this.supply[i]!);
-          target.push(j);
-        }
       }
     }
     if (pieces.length === 0) return false;
@@ -483,7 +546,7 @@ export class ZoneFlow {
     const cut = total > need ? selectByWeight(idx, delta, amount, need) : idx.length - 1;
     let change = 0;
     for (let u = 0; u <= cut; u++) change = Math.max(change, delta[idx[u]!]!);
-    this.price[j] = this.price[j]! + (shed ? change : -change);
+    this.price[j] = this.price[j]! - change;
     this.byPriceStale = true;
     let taken = 0;
     for (let u = 0; u <= cut; u++) {
@@ -491,7 +554,7 @@ export class ZoneFlow {
       const take = Math.min(amount[at]!, need - taken);
       if (!(take > 0)) break;
       const piece = pieces[at]!;
-      this.transfer(piece, target[at]!, take / this.supply[this.pieceStop[piece]!]!);
+      this.transfer(piece, j, take / this.supply[this.pieceStop[piece]!]!);
       taken += take;
     }
     return taken > 0;
@@ -521,6 +584,11 @@ export class ZoneFlow {
     }
     let totalSupply = 0;
     for (let t = 0; t < this.free.length; t++) totalSupply += this.supply[this.free[t]!]!;
+    // The sink's excess is the sum of every zone's flow less the total supply: its rounding is
+    // of the order of the last digit of the total, not of one zone's. A tolerance of that order
+    // keeps a last-digit excess there from being pushed to and fro without end.
+    const tolAt = new Float64Array(V).fill(tol);
+    tolAt[T] = tol + 1e-12 * totalSupply;
     const excess = new Float64Array(V);
     const recount = (): void => {
       let sumOut = 0;
@@ -543,8 +611,8 @@ export class ZoneFlow {
       let anyExcess = false;
       let anyDeficit = false;
       for (let v = 0; v < V; v++) {
-        if (excess[v]! > tol) anyExcess = true;
-        if (excess[v]! < -tol) anyDeficit = true;
+        if (excess[v]! > tolAt[v]!) anyExcess = true;
+        if (excess[v]! < -tolAt[v]!) anyDeficit = true;
       }
       // Excess with no deficit left anywhere is rounding in the last digits: done.
       if (!anyExcess || !anyDeficit || this.augmentations >= maxPaths) return;
@@ -556,7 +624,7 @@ export class ZoneFlow {
       queue.clear();
       settled.length = 0;
       for (let v = 0; v < V; v++) {
-        if (excess[v]! > tol) {
+        if (excess[v]! > tolAt[v]!) {
           dist[v] = 0;
           queue.push(0, v);
         }
@@ -570,7 +638,7 @@ export class ZoneFlow {
         if (done[u] || du > dist[u]!) continue;
         done[u] = 1;
         settled.push(u);
-        if (excess[u]! < -tol) {
+        if (excess[u]! < -tolAt[u]!) {
           target = u;
           D = du;
           break;
@@ -596,8 +664,8 @@ export class ZoneFlow {
           let snk = 0;
           let sa = 0;
           for (let v = 0; v < V; v++) {
-            if (excess[v]! > tol) src++;
-            if (excess[v]! < -tol) {
+            if (excess[v]! > tolAt[v]!) src++;
+            if (excess[v]! < -tolAt[v]!) {
               snk++;
               sa += excess[v]!;
             }
@@ -641,11 +709,42 @@ export class ZoneFlow {
     }
     // u -> T: more flow on u's sink arc (possible below its upper bound).
     if (this.out[u]! < upper[u]! - tol) f(T, potential[T]! - potential[u]!, -1);
-    for (const l of this.outgoing[u]!) {
-      const piece = this.topMove(u, l);
-      if (piece < 0) continue;
-      f(l, this.topKey(u, l) - potential[u]! + potential[l]!, piece);
+    if (this.arcsStale[u]) this.readArcs(u);
+    const zones = this.arcZone[u]!;
+    const keys = this.arcKey[u]!;
+    const pieces = this.arcPiece[u]!;
+    const pu = potential[u]!;
+    for (let t = 0, m = this.arcCount[u]!; t < m; t++) {
+      const l = zones[t]!;
+      f(l, keys[t]! - pu + potential[l]!, pieces[t]!);
     }
+  }
+
+  /** Reads zone u's arcs off the tops of its heaps. */
+  private readArcs(u: number): void {
+    const heaps = this.outHeaps[u]!;
+    const zones = this.outZones[u]!;
+    if (this.arcZone[u]!.length < heaps.length) {
+      const size = Math.max(heaps.length, 2 * this.arcZone[u]!.length);
+      this.arcZone[u] = new Int32Array(size);
+      this.arcKey[u] = new Float64Array(size);
+      this.arcPiece[u] = new Int32Array(size);
+    }
+    const az = this.arcZone[u]!;
+    const ak = this.arcKey[u]!;
+    const ap = this.arcPiece[u]!;
+    let m = 0;
+    for (let t = 0; t < heaps.length; t++) {
+      const heap = heaps[t]!;
+      const piece = this.topMove(u, heap);
+      if (piece < 0) continue;
+      az[m] = zones[t]!;
+      ak[m] = heap.topKey();
+      ap[m] = piece;
+      m++;
+    }
+    this.arcCount[u] = m;
+    this.arcsStale[u] = 0;
   }
 
   /** Pushes the bottleneck amount along a path (nodes, and the piece moved on each zone arc). */
@@ -741,6 +840,22 @@ export class ZoneFlow {
     this.cand.farthest[i] = Math.min(this.cand.farthest[i]!, this.cand.angle2[base + slot]!);
     this.cand.zone[base + slot] = j;
     this.cand.angle2[base + slot] = angle2To(this.units, i, this.centres, j);
+  }
+
+  /**
+   * New bounds for the same stops and costs, to continue from the pieces and prices as they are
+   * (e.g. a rounded flow, every stop whole in a zone of least value, with its bounds tightened):
+   * only what the change in bounds moves is left to carry. run() (and settle()) must follow. A
+   * price on a side that no longer has a bound is dropped; settle() then moves the stops it held.
+   */
+  rebound(bounds: FlowBounds): void {
+    this.bounds = bounds;
+    this.blocked = false;
+    for (let j = 0; j < this.k; j++) {
+      if (!Number.isFinite(bounds.upper[j]!)) this.price[j] = Math.min(this.price[j]!, 0);
+      if (!(bounds.lower[j]! > 0)) this.price[j] = Math.max(this.price[j]!, 0);
+    }
+    this.byPriceStale = true;
   }
 
   /** Calls f(stop, zone, fraction) for every piece of every free stop. */
@@ -940,6 +1055,53 @@ class MoveHeap {
     this.keys[at] = key;
     this.pieces[at] = piece;
     this.versions[at] = version;
+  }
+}
+
+/**
+ * Open-addressing hash table from non-negative integer keys (below 2^53) to non-negative
+ * integers, in typed arrays; -1 for a key not present.
+ */
+class PairIndex {
+  private keys = new Float64Array(64).fill(-1);
+  private values = new Int32Array(64);
+  private size = 0;
+
+  private slot(key: number): number {
+    const mask = this.keys.length - 1;
+    let h = (Math.imul(key >>> 0, 0x9e3779b1) ^ Math.imul(Math.floor(key / 4294967296), 0x85ebca77)) >>> 0;
+    for (;;) {
+      h &= mask;
+      const k = this.keys[h]!;
+      if (k === key || k < 0) return h;
+      h++;
+    }
+  }
+
+  get(key: number): number {
+    const h = this.slot(key);
+    return this.keys[h] === key ? this.values[h]! : -1;
+  }
+
+  set(key: number, value: number): void {
+    if (2 * (this.size + 1) > this.keys.length) {
+      const oldKeys = this.keys;
+      const oldValues = this.values;
+      this.keys = new Float64Array(2 * oldKeys.length).fill(-1);
+      this.values = new Int32Array(2 * oldKeys.length);
+      for (let t = 0; t < oldKeys.length; t++) {
+        if (oldKeys[t]! < 0) continue;
+        const h = this.slot(oldKeys[t]!);
+        this.keys[h] = oldKeys[t]!;
+        this.values[h] = oldValues[t]!;
+      }
+    }
+    const h = this.slot(key);
+    if (this.keys[h] !== key) {
+      this.keys[h] = key;
+      this.size++;
+    }
+    this.values[h] = value;
   }
 }
 
