@@ -232,6 +232,7 @@ export function assignWithLimits(
   const n = demand.length;
   const k = centres.length / 3;
   const { flow, free, freeBounds, candidates: cand, byDemand } = lp;
+  const lpPaths = flow.augmentations;
   const supply = byDemand ? demand : null;
   const angle2 = (i: number, j: number): number => flow.angle2(i, j);
   const demandScale = Math.max(1e-300, free.reduce((s, i) => s + demand[i]!, 0) / k);
@@ -283,9 +284,13 @@ export function assignWithLimits(
    * `margins`, every bound tightened by the largest stop the LP split in that zone, or a mean
    * stop where none (at most a quarter of the band, or 2% of a capacity), so that rounding the
    * next LP's split stops, which are mostly in the same zones, keeps them within and single moves
-   * find room. Null when that flow is blocked.
+   * find room. Null when that flow is blocked. With `base`, that flow (rounded, so every stop
+   * whole in a zone of least value at its prices) continues under the new bounds: only what the
+   * tightening moves is carried, instead of every stop again; otherwise a new flow starts from
+   * the LP's prices.
    */
-  const retryWith = (roundLoad: Float64Array, margins: boolean): Whole | null => {
+  const lpPrice = byDemand ? lp.prices.demand : lp.prices.stops;
+  const retryWith = (roundLoad: Float64Array, margins: boolean, base: ZoneFlow | null): Whole | null => {
     const tol = 1e-9 * (byDemand ? demandScale : stopScale);
     // Every zone gets at least a mean stop of room, so that single moves can mend what is left.
     const meanSupply = byDemand ? (demandScale * k) / Math.max(1, free.length) : 1;
@@ -298,20 +303,26 @@ export function assignWithLimits(
       if (Number.isFinite(upper[j]!)) adjUpper[j] = Math.min(upper[j]! - m, l > upper[j]! + tol ? upper[j]! - (l - upper[j]!) : Infinity);
       if (lower[j]! > 0) adjLower[j] = Math.max(lower[j]! + m, l < lower[j]! - tol ? lower[j]! + (lower[j]! - l) : -Infinity);
     }
-    const carried = Int32Array.from(free.filter((i) => (byDemand ? demand[i]! > 0 : true)));
-    const retry = new ZoneFlow(
-      units,
-      centres,
-      cand,
-      carried,
-      byDemand ? demand : new Float64Array(n).fill(1),
-      byDemand ? new Float64Array(n).fill(1) : demand,
-      { upper: adjUpper, lower: adjLower },
-      flow.price,
-      options.stay ?? null,
-      stayBonus(options, byDemand, demand),
-    );
-    const maxPaths = options.maxPaths ?? 50 * n + 10_000;
+    let retry: ZoneFlow;
+    if (base) {
+      retry = base;
+      retry.rebound({ upper: adjUpper, lower: adjLower });
+    } else {
+      const carried = Int32Array.from(free.filter((i) => (byDemand ? demand[i]! > 0 : true)));
+      retry = new ZoneFlow(
+        units,
+        centres,
+        cand,
+        carried,
+        byDemand ? demand : new Float64Array(n).fill(1),
+        byDemand ? new Float64Array(n).fill(1) : demand,
+        { upper: adjUpper, lower: adjLower },
+        lpPrice,
+        options.stay ?? null,
+        stayBonus(options, byDemand, demand),
+      );
+    }
+    const maxPaths = retry.augmentations + (options.maxPaths ?? 50 * n + 10_000);
     retry.run(maxPaths);
     for (let round = 0; round < 8 && !retry.blocked && retry.settle() > 0; round++) retry.run(maxPaths);
     return retry.blocked ? null : makeWhole(retry);
@@ -324,12 +335,13 @@ export function assignWithLimits(
   const first = makeWhole(flow, large);
   let chosen = first;
   if (chosen.breach > 0) {
-    const other = retryWith(first.roundLoad, true);
+    // The LP's own flow, rounded by the first rounding, continues with the margins.
+    const other = retryWith(first.roundLoad, true, flow);
     if (other && better(other, chosen)) chosen = other;
     // Margins can leave too little room in all (a capacity near the total demand), and cost more
     // than the breaches alone where those suffice: with smaller zones both are tried.
     if (chosen.breach > 0 || !large) {
-      const plain = retryWith(first.roundLoad, false);
+      const plain = retryWith(first.roundLoad, false, null);
       if (plain && better(plain, chosen)) chosen = plain;
     }
     if (large && chosen.breach > 0) {
@@ -367,7 +379,7 @@ export function assignWithLimits(
     feasible: violations.length === 0,
     violations,
     prices: lp.prices,
-    paths: flow.augmentations,
+    paths: lpPaths,
     split,
     repaired,
     blocked: lp.blocked,

@@ -5,6 +5,7 @@ import { checkSolve, defaultSampleStops, solveSteps, DEFAULT_MAX_ITERATIONS } fr
 import { hasLimits, zoneBounds, type LimitNote, type LimitSettings } from './limits.js';
 import { seedCentres, seedScratch } from './seed.js';
 import { nearestCandidates } from './candidates.js';
+import { guessAssignment } from './guess.js';
 import { aggregateStops, type Aggregated } from './aggregate.js';
 import { SolveError, type IterationRecord, type SolveInput, type SolveProgress, type SolveResult, type SolveSettings } from './types.js';
 
@@ -154,6 +155,7 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
   let prices: Prices | null = null;
   let iterations = startResult?.iterations ?? history.length;
   let converged = startResult?.converged ?? true;
+  let finalGuess: Int32Array | undefined;
   if (limited) {
     // Coarse to fine: merged copies of growing size (x5 each) up to a quarter of the stops, each
     // level starting from the last one's centres and prices, so that the full set needs only a
@@ -184,6 +186,7 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
       if (s.done) {
         prices = s.value.prices;
         converged = s.value.converged;
+        finalGuess = s.value.guess;
         break;
       }
       steps++;
@@ -192,7 +195,7 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
     }
     iterations = steps;
   }
-  const final: LimitedAssignment = assignWithLimits(units, demand, centres, bounds, locked, prices ? { warm: prices } : {});
+  const final: LimitedAssignment = assignWithLimits(units, demand, centres, bounds, locked, { ...(prices ? { warm: prices } : {}), ...(finalGuess ? { guess: finalGuess } : {}) });
   yield progress('done', iterations, 1);
   return {
     zones: k,
@@ -300,10 +303,13 @@ function* lpLloyd(
   relaxFrom: ZoneBounds | null = null,
   /** Iterations in a row with a fall below `settled` that count as settled. */
   calmNeeded = 2,
-): Generator<IterationRecord, { prices: Prices | null; converged: boolean }, void> {
+): Generator<IterationRecord, { prices: Prices | null; converged: boolean; guess: Int32Array }, void> {
   const n = demand.length;
   let prices = warm;
-  let guess: Int32Array | undefined;
+  // Each stop's zone in the last LP, where the candidate search starts (exact from any start,
+  // fast from a near one); before the first LP, the zone of a coarse grid cell's middle.
+  let guess = guessAssignment(units, centres);
+  let first = true;
   let last = Infinity;
   let calm = 0;
   let relax = relaxFrom ? 1 : 0;
@@ -313,7 +319,7 @@ function* lpLloyd(
     relax *= RELAX;
     if (relax < 0.01) relax = 0;
     const stepBounds = relax > 0 && relaxFrom ? blend(bounds, relaxFrom, relax) : bounds;
-    const lp = solveLimitLp(units, demand, centres, stepBounds, locked, { ...(prices ? { warm: prices } : {}), ...(guess ? { guess } : {}) });
+    const lp = solveLimitLp(units, demand, centres, stepBounds, locked, { ...(prices ? { warm: prices } : {}), guess });
     prices = lp.prices;
     // The parts of stops (locked stops whole, free ones as the LP holds them).
     const stop: number[] = [];
@@ -344,7 +350,8 @@ function* lpLloyd(
     const parts: WeightedParts = { stop: Int32Array.from(stop), zone: Int32Array.from(zone), weight: Float64Array.from(weight) };
     const move = updateCentresWeighted(units, parts, centres, fixed, rule);
     let moved = 0;
-    if (guess) for (let i = 0; i < n; i++) if (guess[i] !== primary[i]) moved++;
+    if (!first) for (let i = 0; i < n; i++) if (guess[i] !== primary[i]) moved++;
+    first = false;
     guess = primary;
     const objective = lp.lpObjectiveKm2;
     yield {
@@ -363,9 +370,9 @@ function* lpLloyd(
     }
     const fall = (last - objective) / Math.max(1e-300, Math.abs(objective));
     last = objective;
-    if (fall < settled && move < 1e-9) return { prices, converged: true };
+    if (fall < settled && move < 1e-9) return { prices, converged: true, guess };
     calm = fall < settled ? calm + 1 : 0;
-    if (calm >= calmNeeded) return { prices, converged: true };
+    if (calm >= calmNeeded) return { prices, converged: true, guess };
   }
-  return { prices, converged: false };
+  return { prices, converged: false, guess };
 }

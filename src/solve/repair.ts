@@ -272,19 +272,60 @@ export class WholeStops {
     return list;
   }
 
+  /**
+   * Per zone, the free stops that list it among their candidates (made when first asked for):
+   * the stops that could move into it, without reading the members of every neighbouring zone.
+   * Candidate lists can change later (the flow adopts zones), so users still check hasCandidate.
+   */
+  private reverseStart: Int32Array | null = null;
+  private reverseStops = new Int32Array(0);
+  private reverse(): { start: Int32Array; stops: Int32Array } {
+    if (!this.reverseStart) {
+      const k = this.loadD.length;
+      const C = this.cand.c;
+      const { zone } = this.cand;
+      const listed = (i: number, s: number): boolean => {
+        for (let t = 0; t < s; t++) if (zone[i * C + t] === zone[i * C + s]) return true;
+        return false;
+      };
+      const start = new Int32Array(k + 1);
+      for (const i of this.free) for (let s = 0; s < C; s++) if (!listed(i, s)) start[zone[i * C + s]! + 1]!++;
+      for (let j = 0; j < k; j++) start[j + 1]! += start[j]!;
+      const stops = new Int32Array(start[k]!);
+      const fill = start.slice(0, k);
+      for (const i of this.free) for (let s = 0; s < C; s++) if (!listed(i, s)) stops[fill[zone[i * C + s]!]!++] = i;
+      this.reverseStart = start;
+      this.reverseStops = stops;
+    }
+    return { start: this.reverseStart, stops: this.reverseStops };
+  }
+
+  /** Marks (1) of the zones in neighboursOf(l), in a scratch array kept for the next call. */
+  private nearMark: Uint8Array | null = null;
+  private markNeighbours(l: number): Uint8Array {
+    const mark = (this.nearMark ??= new Uint8Array(this.loadD.length));
+    mark.fill(0);
+    for (const r of this.neighboursOf(l)) mark[r] = 1;
+    return mark;
+  }
+
   /** Stops of other zones that have l as a candidate, with the cost of moving into l, cheapest first. */
   private inCache = new Map<number, { stop: number; from: number; cost: number }[]>();
   private movesIn(l: number): { stop: number; from: number; cost: number }[] {
     let list = this.inCache.get(l);
     if (!list) {
       list = [];
-      for (const r of this.neighboursOf(l)) {
+      // Stops in zones next to l (neighboursOf) that list l, from zones within their bounds.
+      const near = this.markNeighbours(l);
+      const { start, stops } = this.reverse();
+      for (let t = start[l]!; t < start[l + 1]!; t++) {
+        const m = stops[t]!;
+        const r = this.assignment[m]!;
+        if (r === l || !near[r]) continue;
+        if (!this.hasCandidate(m, l)) continue;
         if (this.breach(r, 0, 0) > 0) continue;
-        for (const m of this.members[r]!) {
-          if (!this.hasCandidate(m, l)) continue;
-          if (this.breach(r, -this.demand[m]!, -1) > 0) continue;
-          list.push({ stop: m, from: r, cost: this.cost(m, l) });
-        }
+        if (this.breach(r, -this.demand[m]!, -1) > 0) continue;
+        list.push({ stop: m, from: r, cost: this.cost(m, l) });
       }
       list = cheapestFirst(list, LIST_KEEP);
       this.inCache.set(l, list);
@@ -338,13 +379,16 @@ export class WholeStops {
       }
       // Chains: a neighbour gives a stop and takes one from its own neighbour.
       const firsts: { stop: number; from: number; to: number; cost: number }[] = [];
-      for (const l of this.neighboursOf(j)) {
-        for (const i of this.members[l]!) {
-          if (!this.hasCandidate(i, j)) continue;
-          const w = this.demand[i]!;
-          if (this.breach(l, -w, -1) <= this.breach(l, 0, 0)) continue;
-          firsts.push({ stop: i, from: l, to: j, cost: this.cost(i, j) });
-        }
+      const near = this.markNeighbours(j);
+      const { start, stops } = this.reverse();
+      for (let t = start[j]!; t < start[j + 1]!; t++) {
+        const i = stops[t]!;
+        const l = this.assignment[i]!;
+        if (l === j || !near[l]) continue;
+        if (!this.hasCandidate(i, j)) continue;
+        const w = this.demand[i]!;
+        if (this.breach(l, -w, -1) <= this.breach(l, 0, 0)) continue;
+        firsts.push({ stop: i, from: l, to: j, cost: this.cost(i, j) });
       }
       const order = cheapestFirst(firsts, FIRST_SCAN);
       for (let u = 0; u < order.length; u++) {
