@@ -20,6 +20,18 @@ export interface Aggregated {
 }
 
 /**
+ * Sizes (cells) of the coarse copies of n stops for k zones, coarse to fine: from
+ * max(4 000, 20 k) up by a factor of 5 while a copy stays under a quarter of the stops (none for
+ * fewer stops). The limited plan's levels (src/solve/limited.ts) and the start prices of an
+ * assignment step without prices (src/solve/capacity.ts) use them.
+ */
+export function coarseSizes(n: number, k: number): number[] {
+  const sizes: number[] = [];
+  for (let size = Math.max(4_000, 20 * k); size * 4 <= n; size *= 5) sizes.push(size);
+  return sizes;
+}
+
+/**
  * Merges the free stops into about `target` cells (at most `target`, at least half of it where
  * the stops allow) of a cubic grid over the unit vectors; locked stops are kept as they are, each
  * with its zone. Stops of demand 0 count towards a cell's direction with a tiny weight so that a

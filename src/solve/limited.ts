@@ -6,7 +6,7 @@ import { hasLimits, zoneBounds, type LimitNote, type LimitSettings } from './lim
 import { seedCentres, seedScratch } from './seed.js';
 import { nearestCandidates } from './candidates.js';
 import { guessAssignment } from './guess.js';
-import { aggregateStops, type Aggregated } from './aggregate.js';
+import { aggregateStops, coarseSizes, type Aggregated } from './aggregate.js';
 import { SolveError, type IterationRecord, type SolveInput, type SolveProgress, type SolveResult, type SolveSettings } from './types.js';
 
 export interface LimitedSettings extends SolveSettings {
@@ -231,15 +231,12 @@ export function* solveLimitedSteps(input: SolveInput, settings: LimitedSettings,
 }
 
 /**
- * Sizes (cells) of the coarse copies the limited loop runs on before every stop: from
- * max(4 000, 20 k) up by a factor of 5 while a level stays under a quarter of the stops; none
- * when `sampleStops` is 0 (no coarse start asked for). The smallest carries the continuation from
- * the plain k-means centres, where most stops change zone: it costs the least there.
+ * Sizes (cells) of the coarse copies the limited loop runs on before every stop (coarseSizes);
+ * none when `sampleStops` is 0 (no coarse start asked for). The smallest carries the continuation
+ * from the plain k-means centres, where most stops change zone: it costs the least there.
  */
 function coarseLevels(n: number, k: number, sampleStops: number): number[] {
-  const levels: number[] = [];
-  if (sampleStops > 0) for (let size = Math.max(4_000, 20 * k); size * 4 <= n; size *= 5) levels.push(size);
-  return levels;
+  return sampleStops > 0 ? coarseSizes(n, k) : [];
 }
 
 /** Factor by which the continuation closes the gap to the target bounds per iteration. Common practice, no source. */
