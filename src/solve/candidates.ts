@@ -138,3 +138,69 @@ export function withZones(cand: Candidates, units: Float64Array, centres: Float6
   }
   return { n, k, c: c2, zone, angle2, farthest: cand.farthest };
 }
+
+/**
+ * Candidate lists with `extra` more zones per stop: beyond its nearest ones, the zones of least
+ * value `factor[i] x angle^2 + price[j]` at the given zone prices (the prices of the last
+ * assignment step, or of a coarse copy of the stops). Under tight limits a town whose demand is
+ * more than its own zones can take sends stops well past their nearest centres; with only the
+ * nearest listed, the flow finds those zones one stop at a time (every stop whose cheapest zone
+ * at the prices lies beyond its list is moved there and the paths run again, and again). The
+ * nearest stay first and `farthest` keeps its meaning (a lower bound for every zone not listed:
+ * the extras are not nearer than the nearest). Where fewer zones than asked are left, the slot
+ * repeats the nearest.
+ */
+export function withCheapest(cand: Candidates, units: Float64Array, centres: Float64Array, price: Float64Array, factor: Float64Array, extra: number): Candidates {
+  const { n, k, c } = cand;
+  const e = Math.min(extra, k - c);
+  if (e <= 0) return cand;
+  const c2 = c + e;
+  const zone = new Int32Array(n * c2);
+  const angle2 = new Float64Array(n * c2);
+  // Zones by price, cheapest first: a zone beyond the nearest is worth at least
+  // factor x farthest + its price, so the scan ends where that passes the e-th best found.
+  const order = Int32Array.from({ length: k }, (_, j) => j).sort((a, b) => price[a]! - price[b]! || a - b);
+  const listed = new Int32Array(k).fill(-1);
+  const bestZone = new Int32Array(e);
+  const bestValue = new Float64Array(e);
+  for (let i = 0; i < n; i++) {
+    for (let s = 0; s < c; s++) {
+      zone[i * c2 + s] = cand.zone[i * c + s]!;
+      angle2[i * c2 + s] = cand.angle2[i * c + s]!;
+      listed[cand.zone[i * c + s]!] = i;
+    }
+    const f = factor[i]!;
+    const floor = f * cand.farthest[i]!;
+    const x = units[3 * i]!;
+    const y = units[3 * i + 1]!;
+    const z = units[3 * i + 2]!;
+    let filled = 0;
+    for (let t = 0; t < k; t++) {
+      const j = order[t]!;
+      const pj = price[j]!;
+      if (filled === e && !(floor + pj < bestValue[e - 1]!)) break;
+      if (listed[j] === i) continue;
+      // The squared chord is at most the squared angle: a cheap bound before the exact value.
+      const dx = x - centres[3 * j]!;
+      const dy = y - centres[3 * j + 1]!;
+      const dz = z - centres[3 * j + 2]!;
+      if (filled === e && !(f * (dx * dx + dy * dy + dz * dz) + pj < bestValue[e - 1]!)) continue;
+      const v = f * angle2To(units, i, centres, j) + pj;
+      if (filled === e && !(v < bestValue[e - 1]!)) continue;
+      let s = filled < e ? filled++ : e - 1;
+      while (s > 0 && bestValue[s - 1]! > v) {
+        bestValue[s] = bestValue[s - 1]!;
+        bestZone[s] = bestZone[s - 1]!;
+        s--;
+      }
+      bestValue[s] = v;
+      bestZone[s] = j;
+    }
+    for (let s = 0; s < e; s++) {
+      const j = s < filled ? bestZone[s]! : cand.zone[i * c]!;
+      zone[i * c2 + c + s] = j;
+      angle2[i * c2 + c + s] = s < filled ? angle2To(units, i, centres, j) : cand.angle2[i * c]!;
+    }
+  }
+  return { n, k, c: c2, zone, angle2, farthest: cand.farthest };
+}
