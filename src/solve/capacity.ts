@@ -1,5 +1,6 @@
 import { EARTH_RADIUS_KM } from '../geo/constants.js';
-import { angle2To, nearestCandidates, withZones, type Candidates } from './candidates.js';
+import { aggregateStops, coarseSizes } from './aggregate.js';
+import { angle2To, nearestCandidates, withCheapest, withZones, type Candidates } from './candidates.js';
 import { ZoneFlow } from './flow.js';
 import { WholeStops } from './repair.js';
 
@@ -92,10 +93,49 @@ export interface LimitLp {
  * carries demand and the stop counts are left to the whole-stop repair (assignWithLimits).
  */
 export function solveLimitLp(units: Float64Array, demand: Float64Array, centres: Float64Array, bounds: ZoneBounds, locked: Int32Array | null, options: LimitOptions = {}): LimitLp {
+  return solveLp(units, demand, centres, bounds, locked, options, 'top');
+}
+
+/**
+ * Extra candidate zones per stop, by value at the start prices (src/solve/candidates.ts,
+ * withCheapest). Measured on the benchmark's stops (200k x 100, balance 5%, LP from a coarse
+ * copy's prices): 4 772 shortest paths and no second round with 4 extra (2 did as well), 110 902
+ * paths and eight rounds of moving stops past their lists without.
+ */
+const EXTRA_CANDIDATES = 4;
+
+/** Continuations of the LP's flow with margins, at most (each about one LP's cost or less). Common practice, no source. */
+const MARGIN_TRIES = 4;
+
+/**
+ * Start prices for a step that has none (the first step of a plan or a rebalance at new
+ * centres): the LPs of coarse copies of the stops (merged cells, every region's demand exact,
+ * src/solve/aggregate.ts; the sizes of the limited plan's levels) at the same centres and
+ * bounds, each from the last one's prices. From prices of zero every stop starts at its
+ * nearest centre and, under a tight band, the paths carry the whole difference zone by zone
+ * through chains of neighbours (1M x 200: not done in 5 minutes); from a coarse copy's prices
+ * only what the merging hid is left. Null when there are too few stops for a copy, or a copy's
+ * LP cannot meet the bounds.
+ */
+function ladderPrices(units: Float64Array, demand: Float64Array, centres: Float64Array, bounds: ZoneBounds, locked: Int32Array | null, options: LimitOptions, n: number): Prices | null {
+  const k = centres.length / 3;
+  let prices: Prices | null = null;
+  for (const size of coarseSizes(n, k)) {
+    const copy = aggregateStops(units, demand, locked, size);
+    const lp = solveLp(copy.units, copy.demand, centres, bounds, copy.locked, { ...(options.candidates ? { candidates: options.candidates } : {}), ...(prices ? { warm: prices } : {}) }, 'ladder');
+    if (lp.blocked) return prices;
+    prices = lp.prices;
+  }
+  return prices;
+}
+
+/**
+ * `role`: 'top' for a step of its own (it may take its start prices from the ladder), 'ladder'
+ * for a coarse copy's LP inside ladderPrices.
+ */
+function solveLp(units: Float64Array, demand: Float64Array, centres: Float64Array, bounds: ZoneBounds, locked: Int32Array | null, options: LimitOptions, role: 'top' | 'ladder'): LimitLp {
   const n = demand.length;
   const k = centres.length / 3;
-  const near = nearestCandidates(units, centres, options.candidates ?? 8, options.guess);
-  const candidates = options.stay ? withZones(near, units, centres, options.stay) : near;
   const lockedDemand = new Float64Array(k);
   const lockedStops = new Float64Array(k);
   let lockedCost = 0;
@@ -127,6 +167,25 @@ export function solveLimitLp(units: Float64Array, demand: Float64Array, centres:
   const upper = byDemand ? freeBounds.maxDemand : freeBounds.maxStops;
   const lower = byDemand ? freeBounds.minDemand : freeBounds.minStops;
   const bonus = stayBonus(options, byDemand, demand);
+  // Start prices: the ones given, else (demand bounds on many stops) a coarse copy's. Merged
+  // cells hold demand exactly but not stop counts, so a flow of stop counts gets none.
+  let warm = options.warm ? (byDemand ? options.warm.demand : options.warm.stops) : undefined;
+  // Extra candidates by value where the start prices differ much from the ones this step will
+  // end at (a coarse copy's): the steps of a plan's loop, warm from the last step at nearby
+  // centres, move few stops past their nearest zones, and the extras cost them more than they
+  // save (1M x 200 balance 5%, the whole plan by hand: 71.7 s and 1 324 MB with them, 50.0 s and
+  // 1 147 MB without).
+  let extra = role === 'ladder' && warm ? EXTRA_CANDIDATES : 0;
+  if (!warm && role === 'top' && byDemand && demandBounded) {
+    const start = ladderPrices(units, demand, centres, bounds, locked, options, carried.length);
+    if (start) {
+      warm = start.demand;
+      extra = EXTRA_CANDIDATES;
+    }
+  }
+  const near = nearestCandidates(units, centres, options.candidates ?? 8, options.guess);
+  const listed = extra > 0 && warm ? withCheapest(near, units, centres, warm, costFactor, extra) : near;
+  const candidates = options.stay ? withZones(listed, units, centres, options.stay) : listed;
   const flow = new ZoneFlow(
     units,
     centres,
@@ -135,7 +194,7 @@ export function solveLimitLp(units: Float64Array, demand: Float64Array, centres:
     supply,
     costFactor,
     { upper, lower },
-    options.warm ? (byDemand ? options.warm.demand : options.warm.stops) : undefined,
+    warm,
     options.stay ?? null,
     bonus,
   );
@@ -336,8 +395,14 @@ export function assignWithLimits(
   let chosen = first;
   if (chosen.breach > 0) {
     // The LP's own flow, rounded by the first rounding, continues with the margins.
-    const other = retryWith(first.roundLoad, true, flow);
-    if (other && better(other, chosen)) chosen = other;
+    // Where its rounding still breaks a bound (a stop larger than the margin split in a zone that
+    // had none), it continues again from that rounding, the margins grown by the stops split since.
+    let from: Whole | null = first;
+    for (let tries = 0; tries < MARGIN_TRIES && from && chosen.breach > 0; tries++) {
+      const other = retryWith(from.roundLoad, true, flow);
+      if (other && better(other, chosen)) chosen = other;
+      from = other && other.breach < from.breach ? other : null;
+    }
     // Margins can leave too little room in all (a capacity near the total demand), and cost more
     // than the breaches alone where those suffice: with smaller zones both are tried.
     if (chosen.breach > 0 || !large) {
