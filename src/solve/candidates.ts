@@ -16,6 +16,8 @@ export interface Candidates {
   readonly angle2: Float64Array;
   /** Squared angle to the c-th nearest centre: a lower bound for every zone not in the list (Infinity when c = K). */
   readonly farthest: Float64Array;
+  /** Count of in-place changes to the lists (the flow adopting a zone): users that index the lists rebuild when it changes. */
+  edits?: number;
 }
 
 /**

@@ -23,8 +23,10 @@ export interface FlowBounds {
  *
  * Potentials are the zone prices: a unit of stop i goes to the zone of least
  * costFactor x angle^2 + price, and at the end the prices clear every bound (the LP's duals).
- * Stops move only between their C nearest zones; a final check against every zone moves any
- * stop for which a farther zone is cheaper and runs the paths again.
+ * Stops move only between the zones of their candidate lists (the C nearest, and where the
+ * caller adds them, zones of least value at start prices or the zone a stop stays in); a final
+ * check against every zone moves any stop for which a zone beyond its list is cheaper (the zone
+ * joins its list) and runs the paths again.
  */
 export class ZoneFlow {
   readonly k: number;
@@ -839,6 +841,7 @@ export class ZoneFlow {
     if (slot < 0) return;
     this.cand.farthest[i] = Math.min(this.cand.farthest[i]!, this.cand.angle2[base + slot]!);
     this.cand.zone[base + slot] = j;
+    this.cand.edits = (this.cand.edits ?? 0) + 1;
     this.cand.angle2[base + slot] = angle2To(this.units, i, this.centres, j);
   }
 

@@ -177,6 +177,11 @@ export class WholeStops {
     return change;
   }
 
+  /** breachChange of one stop of demand w moved from zone `from` to another zone `to`, without a list. */
+  private moveBreachChange(from: number, to: number, w: number): number {
+    return (this.breach(from, -w, -1) - this.breach(from, 0, 0)) + (this.breach(to, w, 1) - this.breach(to, 0, 0));
+  }
+
   /** Candidate single moves of stop i (to its candidate zones). */
   private targets(i: number): number[] {
     const C = this.cand.c;
@@ -197,6 +202,13 @@ export class WholeStops {
   repair(maxMoves: number): number {
     const k = this.loadD.length;
     let made = 0;
+    // Lists changed since the caches were made (a later flow adopted zones): made again.
+    if (this.cacheEdits !== (this.cand.edits ?? 0)) {
+      this.cacheEdits = this.cand.edits ?? 0;
+      this.outCache.clear();
+      this.inCache.clear();
+      this.neighbourCache.clear();
+    }
     const hopeless = new Set<number>();
     while (made < maxMoves) {
       let worst = -1;
@@ -248,6 +260,8 @@ export class WholeStops {
     for (const t of touched) this.neighbourCache.delete(t);
   }
 
+  private cacheEdits = 0;
+
   /** Each stop of zone l with its cheapest move out (to another candidate zone), cheapest first. */
   private outCache = new Map<number, { stop: number; to: number; cost: number }[]>();
   private movesOut(l: number): { stop: number; to: number; cost: number }[] {
@@ -275,12 +289,15 @@ export class WholeStops {
   /**
    * Per zone, the free stops that list it among their candidates (made when first asked for):
    * the stops that could move into it, without reading the members of every neighbouring zone.
-   * Candidate lists can change later (the flow adopts zones), so users still check hasCandidate.
+   * Candidate lists can change later (a later flow on the same lists adopts zones): the index is
+   * made again when their count of edits has changed since, and users still check hasCandidate.
    */
   private reverseStart: Int32Array | null = null;
   private reverseStops = new Int32Array(0);
+  private reverseEdits = 0;
   private reverse(): { start: Int32Array; stops: Int32Array } {
-    if (!this.reverseStart) {
+    if (!this.reverseStart || this.reverseEdits !== (this.cand.edits ?? 0)) {
+      this.reverseEdits = this.cand.edits ?? 0;
       const k = this.loadD.length;
       const C = this.cand.c;
       const { zone } = this.cand;
@@ -433,13 +450,18 @@ export class WholeStops {
     let made = 0;
     for (let pass = 0; pass < passes; pass++) {
       let round = 0;
+      const C = this.cand.c;
       for (const i of this.free) {
         const from = this.assignment[i]!;
+        const w = this.demand[i]!;
         let bestTo = -1;
         let bestGain = 1e-15;
-        for (const to of this.targets(i)) {
+        // Every listed zone (a zone listed twice is weighed twice, to the same effect).
+        for (let s = 0; s < C; s++) {
+          const to = this.cand.zone[i * C + s]!;
+          if (to === from) continue;
           const gain = -this.cost(i, to);
-          if (gain > bestGain && this.breachChange([{ stop: i, from, to }]) <= 0) {
+          if (gain > bestGain && this.moveBreachChange(from, to, w) <= 0) {
             bestGain = gain;
             bestTo = to;
           }
