@@ -114,15 +114,17 @@ const MARGIN_TRIES = 4;
  * bounds, each from the last one's prices. From prices of zero every stop starts at its
  * nearest centre and, under a tight band, the paths carry the whole difference zone by zone
  * through chains of neighbours (1M x 200: not done in 5 minutes); from a coarse copy's prices
- * only what the merging hid is left. Null when there are too few stops for a copy, or a copy's
- * LP cannot meet the bounds.
+ * only what the merging hid is left. Where a finer copy's LP cannot meet the bounds, the last
+ * copy's prices that could are kept; null when there are too few stops for a copy or the
+ * coarsest copy cannot meet them. A rebalance's move costs are not carried (its first step then
+ * starts from prices without them, which its own flow corrects).
  */
 function ladderPrices(units: Float64Array, demand: Float64Array, centres: Float64Array, bounds: ZoneBounds, locked: Int32Array | null, options: LimitOptions, n: number): Prices | null {
   const k = centres.length / 3;
   let prices: Prices | null = null;
   for (const size of coarseSizes(n, k)) {
     const copy = aggregateStops(units, demand, locked, size);
-    const lp = solveLp(copy.units, copy.demand, centres, bounds, copy.locked, { ...(options.candidates ? { candidates: options.candidates } : {}), ...(prices ? { warm: prices } : {}) }, 'ladder');
+    const lp = solveLp(copy.units, copy.demand, centres, bounds, copy.locked, { ...(options.candidates ? { candidates: options.candidates } : {}), ...(options.maxPaths !== undefined ? { maxPaths: options.maxPaths } : {}), ...(prices ? { warm: prices } : {}) }, 'ladder');
     if (lp.blocked) return prices;
     prices = lp.prices;
   }
