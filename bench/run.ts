@@ -173,7 +173,10 @@ const machine = {
   memoryGiB: Math.round(totalmem() / 2 ** 30),
   commit: (() => {
     try {
-      return execFileSync('git', ['rev-parse', '--short', 'HEAD'], { cwd: root, encoding: 'utf8' }).trim();
+      // Uncommitted changes are named: the figures are then not those of the commit alone.
+      const head = execFileSync('git', ['rev-parse', '--short', 'HEAD'], { cwd: root, encoding: 'utf8' }).trim();
+      const dirty = execFileSync('git', ['status', '--porcelain', '--untracked-files=no', '--', 'src', 'bench', ':!bench/results'], { cwd: root, encoding: 'utf8' }).trim() !== '';
+      return dirty ? `${head} with uncommitted changes` : head;
     } catch {
       return null;
     }
