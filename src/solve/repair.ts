@@ -21,29 +21,29 @@ const CHAIN_SCAN = 16;
 const LIST_KEEP = FIRST_SCAN;
 
 /**
- * The `keep` entries of least cost, cheapest first (ties in their order in `list`): a selection
- * (C. A. R. Hoare's FIND, expected linear time) and a sort of what is kept, instead of sorting
- * every entry.
+ * The indices of the `keep` least of the first `count` costs, cheapest first, ties by index: a
+ * selection (C. A. R. Hoare's FIND, expected linear time) and a sort of what is kept, instead of
+ * sorting every entry. `costs` is left as it was.
  */
-export function cheapestFirst<T extends { cost: number }>(list: T[], keep: number): T[] {
-  const byCost = (x: T, y: T): number => x.cost - y.cost;
-  if (list.length <= keep) return list.map((e) => e).sort(byCost);
-  const costs = Float64Array.from(list, (e) => e.cost);
+export function cheapestIndices(costs: Float64Array, count: number, keep: number): Int32Array {
+  const byCost = (a: number, b: number): number => costs[a]! - costs[b]! || a - b;
+  if (count <= keep) return Int32Array.from({ length: count }, (_, t) => t).sort(byCost);
+  const copy = costs.slice(0, count);
   // The keep-th smallest cost (0-based keep - 1) by quickselect on a copy.
   let lo = 0;
-  let hi = costs.length - 1;
+  let hi = count - 1;
   const want = keep - 1;
   while (lo < hi) {
-    const pivot = costs[(lo + hi) >>> 1]!;
+    const pivot = copy[(lo + hi) >>> 1]!;
     let a = lo;
     let b = hi;
     while (a <= b) {
-      while (costs[a]! < pivot) a++;
-      while (costs[b]! > pivot) b--;
+      while (copy[a]! < pivot) a++;
+      while (copy[b]! > pivot) b--;
       if (a <= b) {
-        const t = costs[a]!;
-        costs[a] = costs[b]!;
-        costs[b] = t;
+        const t = copy[a]!;
+        copy[a] = copy[b]!;
+        copy[b] = t;
         a++;
         b--;
       }
@@ -52,13 +52,12 @@ export function cheapestFirst<T extends { cost: number }>(list: T[], keep: numbe
     else if (want >= a) lo = a;
     else break;
   }
-  const limit = costs[want]!;
-  const below = list.filter((e) => e.cost < limit);
-  for (const e of list) {
-    if (below.length >= keep) break;
-    if (e.cost === limit) below.push(e);
-  }
-  return below.sort(byCost);
+  const limit = copy[want]!;
+  const kept = new Int32Array(keep);
+  let filled = 0;
+  for (let t = 0; t < count; t++) if (costs[t]! < limit) kept[filled++] = t;
+  for (let t = 0; t < count && filled < keep; t++) if (costs[t] === limit) kept[filled++] = t;
+  return kept.subarray(0, filled).sort(byCost);
 }
 
 /**
@@ -103,6 +102,7 @@ export class WholeStops {
     const from = this.assignment[i]!;
     this.members[from]!.delete(i);
     this.members[to]!.add(i);
+    this.ownAngle[i] = Number.NaN;
     this.loadD[from]! -= this.demand[i]!;
     this.loadS[from]!--;
     this.loadD[to]! += this.demand[i]!;
@@ -144,6 +144,76 @@ export class WholeStops {
     const from = this.assignment[i]!;
     const d = this.demand[i]! * (this.angle2(i, to) - this.angle2(i, from));
     return this.extraCost ? d + this.extraCost(i, from, to) : d;
+  }
+
+  /**
+   * cost() of moving stop i from zone `from` (angle^2 `own` to it) to the zone of its candidate
+   * slot s: the listed angle read from the lists (the `angle2` given must return it for a listed
+   * zone, as the flow's does).
+   */
+  private slotCost(i: number, from: number, s: number, own: number): number {
+    const C = this.cand.c;
+    const d = this.demand[i]! * (this.cand.angle2[i * C + s]! - own);
+    return this.extraCost ? d + this.extraCost(i, from, this.cand.zone[i * C + s]!) : d;
+  }
+
+  /** True when stop i's slot s repeats a zone of an earlier slot (marks made again when the lists change). */
+  private listedBefore(i: number, s: number): boolean {
+    const C = this.cand.c;
+    if (!this.repeatMarks || this.repeatEdits !== (this.cand.edits ?? 0)) {
+      this.repeatEdits = this.cand.edits ?? 0;
+      const { zone } = this.cand;
+      const marks = (this.repeatMarks ??= new Uint8Array(zone.length));
+      marks.fill(0);
+      for (const m of this.free) {
+        for (let u = 1; u < C; u++) {
+          for (let t = 0; t < u; t++) {
+            if (zone[m * C + t] === zone[m * C + u]) {
+              marks[m * C + u] = 1;
+              break;
+            }
+          }
+        }
+      }
+    }
+    return this.repeatMarks[i * C + s] === 1;
+  }
+  private repeatMarks: Uint8Array | null = null;
+  private repeatEdits = 0;
+
+  /** Squared angle of stop i to its own zone, kept until it moves (NaN: not known). */
+  private ownAngle = new Float64Array(0);
+  private own(i: number): number {
+    if (this.ownAngle.length !== this.assignment.length) this.ownAngle = new Float64Array(this.assignment.length).fill(Number.NaN);
+    let a = this.ownAngle[i]!;
+    if (a !== a) {
+      a = this.angle2(i, this.assignment[i]!);
+      this.ownAngle[i] = a;
+    }
+    return a;
+  }
+
+  /** Each zone's breach at the loads as they are, in a scratch array (for the scans, where the loads do not change). */
+  private breachNow = new Float64Array(0);
+  private breaches(): Float64Array {
+    const k = this.loadD.length;
+    if (this.breachNow.length !== k) this.breachNow = new Float64Array(k);
+    for (let j = 0; j < k; j++) this.breachNow[j] = this.breach(j, 0, 0);
+    return this.breachNow;
+  }
+
+  /** Scratch arrays of at least `size` entries for the move scans (kept for the next). */
+  private sStop = new Int32Array(0);
+  private sZone = new Int32Array(0);
+  private sCost = new Float64Array(0);
+  private scratch(size: number): { sStop: Int32Array; sZone: Int32Array; sCost: Float64Array } {
+    if (this.sStop.length < size) {
+      const grown = Math.max(size, 2 * this.sStop.length);
+      this.sStop = new Int32Array(grown);
+      this.sZone = new Int32Array(grown);
+      this.sCost = new Float64Array(grown);
+    }
+    return { sStop: this.sStop, sZone: this.sZone, sCost: this.sCost };
   }
 
   private readonly tz = new Int32Array(8);
@@ -267,20 +337,32 @@ export class WholeStops {
   private movesOut(l: number): { stop: number; to: number; cost: number }[] {
     let list = this.outCache.get(l);
     if (!list) {
-      list = [];
-      for (const m of this.members[l]!) {
+      const C = this.cand.c;
+      const { zone } = this.cand;
+      const members = this.members[l]!;
+      const { sStop, sZone, sCost } = this.scratch(members.size);
+      let count = 0;
+      const now = this.breaches();
+      for (const m of members) {
         let bestTo = -1;
         let bestCost = Infinity;
-        for (const r of this.targets(m)) {
-          const c = this.cost(m, r);
-          if (c < bestCost && this.breach(r, this.demand[m]!, 1) <= this.breach(r, 0, 0)) {
+        const own = this.own(m);
+        for (let s = 0; s < C; s++) {
+          const r = zone[m * C + s]!;
+          if (r === l || this.listedBefore(m, s)) continue;
+          const c = this.slotCost(m, l, s, own);
+          if (c < bestCost && this.breach(r, this.demand[m]!, 1) <= now[r]!) {
             bestCost = c;
             bestTo = r;
           }
         }
-        if (bestTo >= 0) list.push({ stop: m, to: bestTo, cost: bestCost });
+        if (bestTo >= 0) {
+          sStop[count] = m;
+          sZone[count] = bestTo;
+          sCost[count++] = bestCost;
+        }
       }
-      list = cheapestFirst(list, LIST_KEEP);
+      list = Array.from(cheapestIndices(sCost, count, LIST_KEEP), (t) => ({ stop: sStop[t]!, to: sZone[t]!, cost: sCost[t]! }));
       this.outCache.set(l, list);
     }
     return list;
@@ -290,31 +372,37 @@ export class WholeStops {
    * Per zone, the free stops that list it among their candidates (made when first asked for):
    * the stops that could move into it, without reading the members of every neighbouring zone.
    * Candidate lists can change later (a later flow on the same lists adopts zones): the index is
-   * made again when their count of edits has changed since, and users still check hasCandidate.
+   * made again when their count of edits has changed since, and users still check the slot.
    */
   private reverseStart: Int32Array | null = null;
   private reverseStops = new Int32Array(0);
+  private reverseSlots = new Int32Array(0);
   private reverseEdits = 0;
-  private reverse(): { start: Int32Array; stops: Int32Array } {
+  private reverse(): { start: Int32Array; stops: Int32Array; slots: Int32Array } {
     if (!this.reverseStart || this.reverseEdits !== (this.cand.edits ?? 0)) {
       this.reverseEdits = this.cand.edits ?? 0;
       const k = this.loadD.length;
       const C = this.cand.c;
       const { zone } = this.cand;
-      const listed = (i: number, s: number): boolean => {
-        for (let t = 0; t < s; t++) if (zone[i * C + t] === zone[i * C + s]) return true;
-        return false;
-      };
       const start = new Int32Array(k + 1);
-      for (const i of this.free) for (let s = 0; s < C; s++) if (!listed(i, s)) start[zone[i * C + s]! + 1]!++;
+      for (const i of this.free) for (let s = 0; s < C; s++) if (!this.listedBefore(i, s)) start[zone[i * C + s]! + 1]!++;
       for (let j = 0; j < k; j++) start[j + 1]! += start[j]!;
       const stops = new Int32Array(start[k]!);
+      const slots = new Int32Array(start[k]!);
       const fill = start.slice(0, k);
-      for (const i of this.free) for (let s = 0; s < C; s++) if (!listed(i, s)) stops[fill[zone[i * C + s]!]!++] = i;
+      for (const i of this.free) {
+        for (let s = 0; s < C; s++) {
+          if (this.listedBefore(i, s)) continue;
+          const t = fill[zone[i * C + s]!]!++;
+          stops[t] = i;
+          slots[t] = s;
+        }
+      }
       this.reverseStart = start;
       this.reverseStops = stops;
+      this.reverseSlots = slots;
     }
-    return { start: this.reverseStart, stops: this.reverseStops };
+    return { start: this.reverseStart, stops: this.reverseStops, slots: this.reverseSlots };
   }
 
   /** Marks (1) of the zones in neighboursOf(l), in a scratch array kept for the next call. */
@@ -331,20 +419,24 @@ export class WholeStops {
   private movesIn(l: number): { stop: number; from: number; cost: number }[] {
     let list = this.inCache.get(l);
     if (!list) {
-      list = [];
       // Stops in zones next to l (neighboursOf) that list l, from zones within their bounds.
       const near = this.markNeighbours(l);
-      const { start, stops } = this.reverse();
+      const { start, stops, slots } = this.reverse();
+      const { sStop, sZone, sCost } = this.scratch(start[l + 1]! - start[l]!);
+      let count = 0;
+      const now = this.breaches();
       for (let t = start[l]!; t < start[l + 1]!; t++) {
         const m = stops[t]!;
         const r = this.assignment[m]!;
         if (r === l || !near[r]) continue;
-        if (!this.hasCandidate(m, l)) continue;
-        if (this.breach(r, 0, 0) > 0) continue;
+        if (this.cand.zone[m * this.cand.c + slots[t]!] !== l) continue;
+        if (now[r]! > 0) continue;
         if (this.breach(r, -this.demand[m]!, -1) > 0) continue;
-        list.push({ stop: m, from: r, cost: this.cost(m, l) });
+        sStop[count] = m;
+        sZone[count] = r;
+        sCost[count++] = this.slotCost(m, r, slots[t]!, this.own(m));
       }
-      list = cheapestFirst(list, LIST_KEEP);
+      list = Array.from(cheapestIndices(sCost, count, LIST_KEEP), (t) => ({ stop: sStop[t]!, from: sZone[t]!, cost: sCost[t]! }));
       this.inCache.set(l, list);
     }
     return list;
@@ -368,12 +460,26 @@ export class WholeStops {
     };
     if (over) {
       // The cheapest moves out of j, each to a zone with room or passed on by a chain.
-      const firsts: { stop: number; from: number; to: number; cost: number }[] = [];
-      for (const i of this.members[j]!) for (const l of this.targets(i)) firsts.push({ stop: i, from: j, to: l, cost: this.cost(i, l) });
-      const order = cheapestFirst(firsts, FIRST_SCAN);
+      const C = this.cand.c;
+      const { zone } = this.cand;
+      const members = this.members[j]!;
+      const { sStop, sZone, sCost } = this.scratch(members.size * C);
+      let count = 0;
+      for (const i of members) {
+        const own = this.own(i);
+        for (let s = 0; s < C; s++) {
+          const l = zone[i * C + s]!;
+          if (l === j || this.listedBefore(i, s)) continue;
+          sStop[count] = i;
+          sZone[count] = l;
+          sCost[count++] = this.slotCost(i, j, s, own);
+        }
+      }
+      // Taken out of the scratch arrays, which movesOut below uses again.
+      const order = Array.from(cheapestIndices(sCost, count, FIRST_SCAN), (t) => ({ stop: sStop[t]!, to: sZone[t]! }));
       for (let u = 0; u < order.length; u++) {
-        const { stop, from, to } = order[u]!;
-        const first: Move = { stop, from, to };
+        const { stop, to } = order[u]!;
+        const first: Move = { stop, from: j, to };
         const w = this.demand[first.stop]!;
         const l = first.to;
         // The single move counts when it lowers the total breach, even if l then breaks a little.
@@ -395,22 +501,27 @@ export class WholeStops {
         consider([{ stop: entry.stop, from: entry.from, to: j }]);
       }
       // Chains: a neighbour gives a stop and takes one from its own neighbour.
-      const firsts: { stop: number; from: number; to: number; cost: number }[] = [];
       const near = this.markNeighbours(j);
-      const { start, stops } = this.reverse();
+      const { start, stops, slots } = this.reverse();
+      const { sStop, sZone, sCost } = this.scratch(start[j + 1]! - start[j]!);
+      let count = 0;
+      const now = this.breaches();
       for (let t = start[j]!; t < start[j + 1]!; t++) {
         const i = stops[t]!;
         const l = this.assignment[i]!;
         if (l === j || !near[l]) continue;
-        if (!this.hasCandidate(i, j)) continue;
+        if (this.cand.zone[i * this.cand.c + slots[t]!] !== j) continue;
         const w = this.demand[i]!;
-        if (this.breach(l, -w, -1) <= this.breach(l, 0, 0)) continue;
-        firsts.push({ stop: i, from: l, to: j, cost: this.cost(i, j) });
+        if (this.breach(l, -w, -1) <= now[l]!) continue;
+        sStop[count] = i;
+        sZone[count] = l;
+        sCost[count++] = this.slotCost(i, l, slots[t]!, this.own(i));
       }
-      const order = cheapestFirst(firsts, FIRST_SCAN);
+      // Taken out of the scratch arrays, which movesIn below uses again.
+      const order = Array.from(cheapestIndices(sCost, count, FIRST_SCAN), (t) => ({ stop: sStop[t]!, from: sZone[t]! }));
       for (let u = 0; u < order.length; u++) {
-        const { stop, from, to } = order[u]!;
-        const first: Move = { stop, from, to };
+        const { stop, from } = order[u]!;
+        const first: Move = { stop, from, to: j };
         const incoming = this.movesIn(first.from);
         for (let t = 0, seen = 0; t < incoming.length && seen < CHAIN_SCAN; t++) {
           const o = incoming[t]!;
@@ -421,12 +532,6 @@ export class WholeStops {
       }
     }
     return best;
-  }
-
-  private hasCandidate(i: number, j: number): boolean {
-    const C = this.cand.c;
-    for (let s = 0; s < C; s++) if (this.cand.zone[i * C + s] === j) return true;
-    return false;
   }
 
   private neighbourCache = new Map<number, number[]>();
