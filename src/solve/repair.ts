@@ -87,6 +87,7 @@ export class WholeStops {
     this.loadD = new Float64Array(k);
     this.loadS = new Float64Array(k);
     this.members = Array.from({ length: k }, () => new Set<number>());
+    this.ownAngle = new Float64Array(assignment.length).fill(Number.NaN);
     let total = 0;
     for (const i of free) {
       const a = assignment[i]!;
@@ -157,11 +158,10 @@ export class WholeStops {
     return this.extraCost ? d + this.extraCost(i, from, this.cand.zone[i * C + s]!) : d;
   }
 
-  /** True when stop i's slot s repeats a zone of an earlier slot (marks made again when the lists change). */
+  /** True when stop i's slot s repeats a zone of an earlier slot (marks made when first asked for). */
   private listedBefore(i: number, s: number): boolean {
     const C = this.cand.c;
-    if (!this.repeatMarks || this.repeatEdits !== (this.cand.edits ?? 0)) {
-      this.repeatEdits = this.cand.edits ?? 0;
+    if (!this.repeatMarks) {
       const { zone } = this.cand;
       const marks = (this.repeatMarks ??= new Uint8Array(zone.length));
       marks.fill(0);
@@ -179,12 +179,10 @@ export class WholeStops {
     return this.repeatMarks[i * C + s] === 1;
   }
   private repeatMarks: Uint8Array | null = null;
-  private repeatEdits = 0;
 
   /** Squared angle of stop i to its own zone, kept until it moves (NaN: not known). */
-  private ownAngle = new Float64Array(0);
+  private readonly ownAngle: Float64Array;
   private own(i: number): number {
-    if (this.ownAngle.length !== this.assignment.length) this.ownAngle = new Float64Array(this.assignment.length).fill(Number.NaN);
     let a = this.ownAngle[i]!;
     if (a !== a) {
       a = this.angle2(i, this.assignment[i]!);
@@ -272,12 +270,16 @@ export class WholeStops {
   repair(maxMoves: number): number {
     const k = this.loadD.length;
     let made = 0;
-    // Lists changed since the caches were made (a later flow adopted zones): made again.
-    if (this.cacheEdits !== (this.cand.edits ?? 0)) {
-      this.cacheEdits = this.cand.edits ?? 0;
+    // Everything made from the candidate lists is made again when they changed since (a later
+    // flow on the same lists adopted zones): the move caches, the index by listed zone, the marks
+    // of repeated slots. Only the repair reads them, and the lists change only between repairs.
+    if (this.listEdits !== (this.cand.edits ?? 0)) {
+      this.listEdits = this.cand.edits ?? 0;
       this.outCache.clear();
       this.inCache.clear();
       this.neighbourCache.clear();
+      this.reverseStart = null;
+      this.repeatMarks = null;
     }
     const hopeless = new Set<number>();
     while (made < maxMoves) {
@@ -330,7 +332,7 @@ export class WholeStops {
     for (const t of touched) this.neighbourCache.delete(t);
   }
 
-  private cacheEdits = 0;
+  private listEdits = 0;
 
   /** Each stop of zone l with its cheapest move out (to another candidate zone), cheapest first. */
   private outCache = new Map<number, { stop: number; to: number; cost: number }[]>();
@@ -371,16 +373,14 @@ export class WholeStops {
   /**
    * Per zone, the free stops that list it among their candidates (made when first asked for):
    * the stops that could move into it, without reading the members of every neighbouring zone.
-   * Candidate lists can change later (a later flow on the same lists adopts zones): the index is
-   * made again when their count of edits has changed since, and users still check the slot.
+   * Candidate lists can change later (a later flow on the same lists adopts zones): repair()
+   * drops the index then, and users still check the slot.
    */
   private reverseStart: Int32Array | null = null;
   private reverseStops = new Int32Array(0);
   private reverseSlots = new Int32Array(0);
-  private reverseEdits = 0;
   private reverse(): { start: Int32Array; stops: Int32Array; slots: Int32Array } {
-    if (!this.reverseStart || this.reverseEdits !== (this.cand.edits ?? 0)) {
-      this.reverseEdits = this.cand.edits ?? 0;
+    if (!this.reverseStart) {
       const k = this.loadD.length;
       const C = this.cand.c;
       const { zone } = this.cand;
