@@ -1,4 +1,4 @@
-import type { InputProblem, PlanComparison, PlanReport, RebalanceReport, SweepReport, SweepRow, ZoneRow } from '../api/types.js';
+import type { InputProblem, LimitBreach, PlanComparison, PlanReport, RebalanceReport, SweepReport, SweepRow, ZoneRow } from '../api/types.js';
 
 /** Right-aligned text table with a header row. */
 export function table(header: readonly string[], rows: readonly (readonly string[])[]): string {
@@ -50,6 +50,16 @@ export function problemLine(p: InputProblem): string {
   return `${p.severity}: ${p.file}${where.length ? `: ${where.join(', ')}` : ''}: ${p.message}`;
 }
 
+/**
+ * One bound a plan misses, with enough decimals that the amount shows: a band narrower than a
+ * whole stop can be missed by less than 0.005 (e.g. "minimum 1980.0020 by 0.0020").
+ */
+export function breachLine(b: LimitBreach): string {
+  const what = b.kind === 'over-demand' ? 'demand over its maximum' : b.kind === 'under-demand' ? 'demand under its minimum' : b.kind === 'over-stops' ? 'stops over their maximum' : 'stops under their minimum';
+  const places = b.by > 0 && b.by < 0.005 ? Math.min(8, Math.ceil(-Math.log10(b.by)) + 1) : 2;
+  return `zone ${b.zone}: ${what} ${fixed(b.bound, places)} by ${fixed(b.by, places)} (has ${fixed(b.load, places)})`;
+}
+
 export function planText(r: PlanReport): string {
   const lines = [
     zoneTable(r.zones),
@@ -67,10 +77,7 @@ export function planText(r: PlanReport): string {
           ? `LP lower bound ${l.lowerBoundKm2.toExponential(6)} km², gap ${(l.gap * 100).toFixed(3)}% (${l.split} stop${l.split === 1 ? '' : 's'} split by the LP, rounded)`
           : 'even with stops split between zones the bounds cannot all be met together, so no lower bound applies'),
     );
-    for (const b of l.breaches) {
-      const what = b.kind === 'over-demand' ? 'demand over its maximum' : b.kind === 'under-demand' ? 'demand under its minimum' : b.kind === 'over-stops' ? 'stops over their maximum' : 'stops under their minimum';
-      lines.push(`  zone ${b.zone}: ${what} ${fixed(b.bound, 2)} by ${fixed(b.by, 2)} (has ${fixed(b.load, 2)})`);
-    }
+    for (const b of l.breaches) lines.push(`  ${breachLine(b)}`);
   }
   if (r.files.geojson) lines.push(`plan written to ${r.files.geojson}`);
   if (r.files.assignments) lines.push(`assignments written to ${r.files.assignments}`);
